@@ -1,0 +1,128 @@
+package dev.weft.filters;
+
+/**
+ * Turns overlapping, late-arriving action chunks into one action per control tick.
+ *
+ * <p><b>Threading:</b> an instance is not thread-safe; all calls on one instance, including
+ * {@link #reset()} and the counters, must come from one thread (the control-loop thread).
+ *
+ * <p><b>Allocation:</b> all workspace (a ring of per-tick slots holding at least
+ * {@code (maxSteps−1)·r + 1} ticks) is allocated by the static factory; {@link #accept},
+ * {@link #actionAt}, {@link #ticksRemaining}, {@link #reset()} and the counters allocate nothing.
+ * Only {@link #describeLastRejection()} builds a {@code String}.
+ *
+ * <p><b>Time model:</b> step {@code j} of a chunk whose observation was taken at tick {@code origin}
+ * is meant for tick {@code origin + j·r}, where {@code r = Δp/Δc} is the step ratio. The chunk is
+ * resampled onto every control tick from {@code nowTick} (its arrival) to {@code origin + (n−1)·r}
+ * (n = executable steps) by the blender's {@link Interpolation}; steps whose time lies before
+ * {@code nowTick} are stale: never executed, counted in {@link #staleSteps()}. Latency never shifts the
+ * plan in time.
+ *
+ * <p>Plan queries concern ticks at or after the {@code nowTick} of the latest accepted call: the plan
+ * always covers one contiguous run of ticks {@code [nowTick, planEnd]}, and earlier ticks are history
+ * ({@link #actionAt} returns {@code false} for them).
+ */
+public interface ChunkBlender {
+
+    /** {@link #accept} result: the chunk was malformed (null, steps outside {@code [1, maxSteps]}, or array too short). */
+    int REJECTED_SHAPE = -1;
+    /** {@link #accept} result: the chunk held a NaN or an infinity; nothing of it was used. */
+    int REJECTED_NON_FINITE = -2;
+    /** {@link #accept} result: negative tick, origin after now, or now before the {@code nowTick} of an earlier call. */
+    int REJECTED_TICKS = -3;
+    /**
+     * {@link #accept} result: the chunk was computed from an older observation than the plan being
+     * executed, so it was dropped (latest-chunk and crossfade blenders only; not an error).
+     */
+    int SUPERSEDED = -4;
+
+    /**
+     * Merges a newly arrived chunk into the plan.
+     *
+     * <p>The chunk is validated in full before anything changes: on any negative result the plan is
+     * exactly as before. A chunk whose executable steps all lie before {@code nowTick} contributes
+     * nothing, returns 0 and is counted in {@link #expiredChunks()}.
+     *
+     * @param chunk      flat row-major {@code steps × dimensions()} values (step-major: step j, joint d at
+     *                   {@code j·D + d}); may be longer than needed; read only, not retained (copy-free: the
+     *                   values are resampled into the blender's own ring before returning)
+     * @param steps      number of steps K in this chunk, {@code 1 ≤ steps ≤ maxSteps()}
+     * @param originTick the control tick of the observation the chunk was computed from, {@code ≥ 0}
+     * @param nowTick    the current control tick, {@code ≥ originTick}, never less than in an earlier call
+     * @return the number of control ticks of plan this chunk contributed to ({@code ≥ 0}), or one of the
+     *         negative codes {@link #REJECTED_SHAPE}, {@link #REJECTED_NON_FINITE},
+     *         {@link #REJECTED_TICKS}, {@link #SUPERSEDED}
+     *         <p>Cost O(T·D) where T is the number of ticks covered (≈ K·r); allocation-free; control-loop thread only.
+     */
+    int accept(double[] chunk, int steps, long originTick, long nowTick);
+
+    /**
+     * Writes the blended action for {@code tick} into {@code out[0..dimensions())}.
+     *
+     * @param tick a control tick, normally the current one
+     * @param out  caller-owned, length at least {@code dimensions()}; modified only when this returns {@code true}
+     * @return {@code true} if the plan covers {@code tick}; {@code false} (no plan: starvation, or the tick
+     *         is history) leaves {@code out} untouched
+     * @throws IllegalArgumentException if {@code out} is null or shorter than {@code dimensions()} (a
+     *         programming error, never a data error)
+     *         <p>Cost O(D), independent of chunk length and overlap; allocation-free; control-loop thread only.
+     */
+    boolean actionAt(long tick, double[] out);
+
+    /**
+     * How many consecutive ticks, starting at and including {@code tick}, the plan covers.
+     *
+     * @return 0 when {@code tick} has no plan (starvation), otherwise {@code planEnd − tick + 1}
+     *         <p>O(1); allocation-free; control-loop thread only.
+     */
+    long ticksRemaining(long tick);
+
+    /**
+     * Forgets the plan and the tick history (the next {@link #accept} may use any {@code nowTick}); the
+     * counters are kept. O(ring size); allocation-free; control-loop thread only.
+     */
+    void reset();
+
+    /** Number of values per action D. */
+    int dimensions();
+
+    /** Largest number of steps K a chunk may have. */
+    int maxSteps();
+
+    /** Step ratio {@code r = Δp/Δc}. */
+    double stepRatio();
+
+    /** How plan points are joined between ticks. */
+    Interpolation interpolation();
+
+    /** Chunks that contributed at least one tick of plan. */
+    long acceptedChunks();
+
+    /** Chunks that were valid but arrived too late for any of their executable steps. */
+    long expiredChunks();
+
+    /** Chunks refused as malformed, non-finite or with inconsistent ticks. */
+    long rejectedChunks();
+
+    /** Chunks dropped because the plan already came from a newer observation (latest-chunk, crossfade). */
+    long supersededChunks();
+
+    /** Steps (actions) of valid chunks whose time had already passed when they arrived; never executed. */
+    long staleSteps();
+
+    /** The negative code of the latest rejection, or 0 if there was none since construction. */
+    int lastRejection();
+
+    /** Step index of the latest {@link #REJECTED_NON_FINITE} value, or −1. */
+    int lastRejectedStep();
+
+    /** Joint index of the latest {@link #REJECTED_NON_FINITE} value, or −1. */
+    int lastRejectedJoint();
+
+    /**
+     * A sentence describing the latest rejection, naming step, joint and ticks, e.g.
+     * {@code "chunk rejected: non-finite value NaN at step 3, joint 2 (origin tick 120, now tick 124)"}.
+     * Allocates a {@code String}: for logging off the hot path, or after a negative {@link #accept} result.
+     */
+    String describeLastRejection();
+}

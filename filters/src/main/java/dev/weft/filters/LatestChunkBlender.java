@@ -1,0 +1,86 @@
+package dev.weft.filters;
+
+/**
+ * Receding-horizon execution: only the newest chunk is executed, from its arrival on; a newly accepted
+ * chunk replaces the whole plan ahead (including any ticks beyond its own end). Optionally only its first
+ * {@code n} steps are executable (the next chunk must arrive before those run out, otherwise the plan
+ * starves); stale steps count toward those {@code n}, because the steps are counted from the observation.
+ *
+ * <p>"Newest" means computed from the newest observation: a chunk whose origin tick is older than the
+ * plan's is dropped and counted in {@link #supersededChunks()}. A valid chunk of which no executable
+ * step is still ahead leaves the plan unchanged and counts in {@link #expiredChunks()}.
+ *
+ * <p>Threading and allocation: see {@link ChunkBlender}; all arrays are allocated by the factory.
+ */
+public final class LatestChunkBlender extends AbstractChunkBlender {
+
+    private final int executedSteps;
+    private final double[] values;
+
+    private LatestChunkBlender(String kind, int dims, int maxSteps, double stepRatio, Interpolation interpolation,
+            int executedSteps) {
+        super(kind, dims, maxSteps, stepRatio, interpolation);
+        if (executedSteps < 1 || executedSteps > maxSteps) {
+            throw new IllegalArgumentException(kind + ": executedSteps must be in [1, maxSteps = " + maxSteps + "], got "
+                    + executedSteps);
+        }
+        this.executedSteps = executedSteps;
+        this.values = new double[capacity * dims];
+    }
+
+    /**
+     * Executes every step of the newest chunk. Allocates the ring once; the returned blender allocates
+     * nothing afterwards.
+     *
+     * @param dimensions    values per action D, ≥ 1
+     * @param maxSteps      largest chunk length K, ≥ 1
+     * @param stepRatio     {@code r = Δp/Δc}, finite, &gt; 0
+     * @param interpolation how plan points are joined between ticks
+     * @throws IllegalArgumentException naming the offending parameter
+     */
+    public static LatestChunkBlender of(int dimensions, int maxSteps, double stepRatio, Interpolation interpolation) {
+        return new LatestChunkBlender("latest chunk", dimensions, maxSteps, stepRatio, interpolation, maxSteps);
+    }
+
+    /**
+     * Executes at most the first {@code executedSteps} steps of the newest chunk (counted from its
+     * observation, so latency uses some of them up). Parameters as in {@link #of}.
+     *
+     * @param executedSteps in {@code [1, maxSteps]}
+     * @throws IllegalArgumentException naming the offending parameter
+     */
+    public static LatestChunkBlender firstSteps(int dimensions, int maxSteps, double stepRatio,
+            Interpolation interpolation, int executedSteps) {
+        return new LatestChunkBlender("latest chunk", dimensions, maxSteps, stepRatio, interpolation, executedSteps);
+    }
+
+    /** Largest number of leading steps of a chunk that are executed. */
+    public int executedSteps() {
+        return executedSteps;
+    }
+
+    @Override
+    int executableSteps(int steps) {
+        return Math.min(steps, executedSteps);
+    }
+
+    @Override
+    boolean dropsOlderOrigins() {
+        return true;
+    }
+
+    @Override
+    void mergeTick(long tick, int slot, double[] value, boolean hadPlan) {
+        System.arraycopy(value, 0, values, slot * dims, dims);
+    }
+
+    @Override
+    long planEndAfter(long chunkEnd) {
+        return chunkEnd;
+    }
+
+    @Override
+    void readSlot(int slot, double[] out) {
+        System.arraycopy(values, slot * dims, out, 0, dims);
+    }
+}
