@@ -1,0 +1,36 @@
+package dev.weft.runtime.policy;
+
+/**
+ * A trained policy as the runtime sees it: an observation in, an action chunk out.
+ *
+ * <p>Threading: {@link #infer} is called from one thread at a time (the inference worker), never
+ * from the control loop. A Java-coded policy can implement this interface and stand in for an
+ * ONNX one.
+ */
+public interface Policy extends AutoCloseable {
+
+    /** Length of the observation vector {@link #infer} reads. */
+    int observationSize();
+
+    /** K, the number of actions in one chunk (1 for a single-step actor). */
+    int chunkLength();
+
+    /** D, the number of values in one action. */
+    int actionSize();
+
+    /**
+     * Computes one chunk.
+     *
+     * @param observation the observation, {@link #observationSize()} values; not modified, not
+     *     retained
+     * @param tick the control tick the observation was taken at
+     * @param chunk output, written with K·D values, row-major (action j's value i at
+     *     {@code j·D + i}); the values may be non-finite and the caller checks them
+     * @throws RuntimeException when the policy fails; the caller turns it into a watchdog condition
+     */
+    void infer(double[] observation, long tick, double[] chunk);
+
+    /** Releases native resources; idempotent. */
+    @Override
+    void close();
+}

@@ -1,0 +1,40 @@
+package dev.weft.runtime.policy;
+
+import java.nio.file.Path;
+import java.util.Collections;
+import java.util.LinkedHashMap;
+import java.util.Map;
+
+/**
+ * Everything needed to load an ONNX policy: the file, what each input is bound to, how the
+ * output is read, and the session options.
+ *
+ * @param model the ONNX file
+ * @param observationSize length of the observation vector
+ * @param inputs model input name → its source, in declaration order
+ * @param output the chunk output
+ * @param session ONNX Runtime options
+ */
+public record PolicySpec(Path model, int observationSize, Map<String, InputBinding> inputs, OutputSpec output,
+                         SessionSettings session) {
+
+    public PolicySpec {
+        if (model == null || output == null || session == null || inputs == null) {
+            throw new IllegalArgumentException("model, inputs, output and session must be given");
+        }
+        if (observationSize < 1) {
+            throw new IllegalArgumentException("observation size must be >= 1, got " + observationSize);
+        }
+        inputs = Collections.unmodifiableMap(new LinkedHashMap<>(inputs));
+    }
+
+    /** The common case: one input named {@code input} fed the observation. */
+    public static PolicySpec singleInput(Path model, int observationSize, String input, OutputSpec output) {
+        return new PolicySpec(model, observationSize, Map.of(input, new InputBinding.Observation()), output,
+                SessionSettings.DEFAULTS);
+    }
+
+    public PolicySpec withSession(SessionSettings s) {
+        return new PolicySpec(model, observationSize, inputs, output, s);
+    }
+}
