@@ -1,0 +1,61 @@
+package dev.weft.runtime.cli;
+
+import picocli.CommandLine;
+import picocli.CommandLine.Command;
+
+/** The {@code weft} command line: the entry point of the runnable jar. */
+@Command(name = "weft",
+        mixinStandardHelpOptions = true,
+        versionProvider = WeftCommand.Version.class,
+        header = {
+            "weft: runs a trained robot policy at a fixed control rate, next to the motors.",
+            "",
+            "CAUTION: weft commands machines that can injure people. It is not a safety-rated",
+            "component. A hardware emergency stop and a safety-rated controller stay in charge.",
+            "Do a risk assessment, dry-run first, and defer to local codes and licensed practice.",
+            ""
+        },
+        subcommands = {InspectCommand.class, CommandLine.HelpCommand.class},
+        exitCodeListHeading = "%nExit codes:%n",
+        exitCodeList = {
+            "0:done",
+            "1:ran, and the verdict is no (a check or gate failed)",
+            "2:could not run: bad input or usage, with the reason on standard error"
+        })
+public final class WeftCommand implements Runnable {
+
+    /** Exit code: the command ran and its verdict is a failure. */
+    public static final int VERDICT_FAILED = 1;
+    /** Exit code: the command could not run (bad input or usage). */
+    public static final int COULD_NOT_RUN = 2;
+
+    @CommandLine.Spec
+    CommandLine.Model.CommandSpec spec;
+
+    @Override
+    public void run() {
+        spec.commandLine().usage(spec.commandLine().getOut());
+    }
+
+    /** Builds the command line with weft's exit codes and error handling. */
+    public static CommandLine commandLine() {
+        CommandLine cl = new CommandLine(new WeftCommand());
+        cl.setExitCodeExceptionMapper(e -> COULD_NOT_RUN);
+        cl.getCommandSpec().exitCodeOnInvalidInput(COULD_NOT_RUN);
+        cl.getCommandSpec().exitCodeOnExecutionException(COULD_NOT_RUN);
+        return cl;
+    }
+
+    public static void main(String[] args) {
+        System.exit(commandLine().execute(args));
+    }
+
+    /** The version from the jar's manifest, or "development" when run from classes. */
+    static final class Version implements CommandLine.IVersionProvider {
+        @Override
+        public String[] getVersion() {
+            String v = WeftCommand.class.getPackage().getImplementationVersion();
+            return new String[] {"weft " + (v == null ? "development" : v)};
+        }
+    }
+}
