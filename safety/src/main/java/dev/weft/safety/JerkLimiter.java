@@ -1,0 +1,322 @@
+package dev.weft.safety;
+
+/**
+ * Turns a target position per joint (any {@code double}, NaN and infinities included) into the
+ * command sent this tick, such that the emitted command sequence never leaves the operating range
+ * and its finite differences at the control period {@code dt},
+ * {@code v[n] = (q[n] - q[n-1]) / dt}, {@code a[n] = (v[n] - v[n-1]) / dt},
+ * {@code j[n] = (a[n] - a[n-1]) / dt}, never exceed the velocity, acceleration and jerk bounds.
+ *
+ * <h2>Method</h2>
+ * The law toward a constant target is the minimum-time profile of a third-order chain of
+ * integrators with bounded velocity, acceleration and jerk: the double-S profile of Biagiotti and
+ * Melchiorri, <i>Trajectory Planning for Automatic Machines and Robots</i>, Springer 2008,
+ * Section 3.4, in the feedback form of the online trajectory filters of their Chapter 4 (after
+ * Zanasi, Guarino Lo Bianco and Tonielli, "Nonlinear filters for the generation of smooth
+ * trajectories", Automatica 36, 2000): accelerate as hard as the bounds allow for as long as the
+ * time-optimal stop from the next state still comes to rest at or before the target, then follow
+ * that stop. Each joint keeps the state (q, v, a) of a continuous trajectory whose jerk is
+ * piecewise constant; every tick the jerk over the next period is the blend
+ * {@code (1 - lambda) * stop(t) + lambda * (+-J)} of the time-optimal stop of the current state and
+ * a full jerk toward the target, with the largest {@code lambda} in [0, 1] (found by bisection)
+ * whose successor keeps |a| and |v| inside their bounds for the whole tick and can still stop
+ * inside the position range with a speed inside its bound. The stop itself is always admissible,
+ * so a valid choice always exists.
+ *
+ * <h2>What was changed for the discrete-time bounds</h2>
+ * <ul>
+ *   <li>The published filters bound the continuous derivatives. The emitted command is a sample of
+ *   the continuous trajectory, and the k-th finite difference of samples divided by dt^k is a
+ *   B-spline-weighted mean of the k-th derivative over the last k periods (Peano kernel theorem),
+ *   so bounding the continuous velocity, acceleration and jerk at every instant, including inside
+ *   a tick, bounds the finite differences as defined above.</li>
+ *   <li>The switching instants of the stop need not fall on ticks; the blend follows the stop
+ *   exactly inside a tick instead of rounding its switches to ticks.</li>
+ *   <li>Each bound is reduced, once at construction, by the rounding error a double position of the
+ *   joint's magnitude adds to a finite difference ({@code ulp(|q|max) / dt^k} times a small
+ *   constant), so the guarantee holds on the emitted doubles, not only in exact arithmetic.
+ *   {@link #create} refuses bounds too small to be resolved at this period.</li>
+ * </ul>
+ *
+ * <h2>Flags</h2>
+ * {@link #apply} returns, and {@link #flags(int)} gives per joint, which bound shaped the command
+ * this tick: {@link #POSITION} (target outside the operating range, or braking for a position
+ * bound), {@link #VELOCITY}, {@link #ACCELERATION}, {@link #JERK} (full jerk toward the target),
+ * plus the fault flags {@link #NON_FINITE_TARGET} (the joint ignored its target and braked to a
+ * hold), {@link #NOT_VIABLE} (the state could not be kept inside the bounds; seen only after a reset
+ * to a state that cannot stop in range) and {@link #POSITION_CLAMPED} (last-resort clamp; never
+ * expected).
+ *
+ * <h2>Threading and allocation</h2>
+ * One instance belongs to one thread (the control loop). No method allocates after construction.
+ */
+public final class JerkLimiter {
+
+    /** The position range shaped the command (target clamped, or braking for a bound). */
+    public static final int POSITION = 1;
+    /** The velocity bound shaped the command. */
+    public static final int VELOCITY = 1 << 1;
+    /** The acceleration bound shaped the command. */
+    public static final int ACCELERATION = 1 << 2;
+    /** The jerk bound shaped the command (full jerk toward the target). */
+    public static final int JERK = 1 << 3;
+    /** The target was NaN or infinite; the joint braked to a hold instead. A fault. */
+    public static final int NON_FINITE_TARGET = 1 << 4;
+    /** The state could not be kept inside the bounds (only after a reset to such a state). A fault. */
+    public static final int NOT_VIABLE = 1 << 5;
+    /** The last-resort position clamp engaged. A fault; no input should ever cause it. */
+    public static final int POSITION_CLAMPED = 1 << 6;
+    /** All fault flags. */
+    public static final int FAULT_FLAGS = NON_FINITE_TARGET | NOT_VIABLE | POSITION_CLAMPED;
+
+    /** Largest share of a bound the floating-point margin may take before {@link #create} refuses it. */
+    static final double MAX_MARGIN_SHARE = 1e-3;
+
+    private final JointLimits limits;
+    private final double dt;
+    private final AxisFilter[] axes;
+    private final int[] jointFlags;
+
+    private JerkLimiter(JointLimits limits, double dt, AxisFilter[] axes) {
+        this.limits = limits;
+        this.dt = dt;
+        this.axes = axes;
+        this.jointFlags = new int[axes.length];
+    }
+
+    /**
+     * Creates a limiter at rest in the middle of each joint's operating range; call
+     * {@link #reset(double[])} with the measured pose before use.
+     *
+     * @param limits        joint limits
+     * @param periodSeconds control period dt, finite and &gt; 0
+     * @throws IllegalArgumentException when the period is invalid, or a bound of a joint is too small
+     *                                  to be resolved at this period with positions of the joint's
+     *                                  magnitude (the message names joint and field)
+     */
+    public static JerkLimiter create(JointLimits limits, double periodSeconds) {
+        if (limits == null) {
+            throw new IllegalArgumentException("jerk limiter: limits must not be null");
+        }
+        if (!Double.isFinite(periodSeconds) || !(periodSeconds > 0.0)) {
+            throw new IllegalArgumentException("jerk limiter: control period must be finite and > 0 s, was "
+                    + periodSeconds);
+        }
+        double dt = periodSeconds;
+        AxisFilter[] axes = new AxisFilter[limits.count()];
+        for (int i = 0; i < axes.length; i++) {
+            double lo = limits.operatingMin(i);
+            double hi = limits.operatingMax(i);
+            double mag = Math.max(Math.max(Math.abs(limits.positionMin(i)), Math.abs(limits.positionMax(i))),
+                    Double.MIN_NORMAL);
+            double u = Math.ulp(mag);
+            double eps = Math.ulp(1.0);
+            double vMax = limits.velocity(i);
+            double aMax = limits.acceleration(i);
+            double jMax = limits.jerk(i);
+            double vMargin = 4.0 * u / dt;
+            double aMargin = 8.0 * u / (dt * dt);
+            double jMargin = 16.0 * u / (dt * dt * dt) + 16.0 * eps * (vMax / (dt * dt) + aMax / dt);
+            String at = JointLimits.where(i, limits.name(i));
+            requireResolvable(at, "velocity bound", vMax, vMargin, dt, mag);
+            requireResolvable(at, "acceleration bound", aMax, aMargin, dt, mag);
+            requireResolvable(at, "jerk bound", jMax, jMargin, dt, mag);
+            double posSlack = 1024.0 * Math.ulp(mag + (hi - lo));
+            if (!(hi - lo > 64.0 * posSlack)) {
+                throw new IllegalArgumentException(at + ": operating range [" + lo + ", " + hi
+                        + "] is too narrow to be resolved in double precision");
+            }
+            axes[i] = new AxisFilter(dt, lo, hi, vMax, aMax, jMax, vMargin, aMargin, jMargin, posSlack);
+        }
+        return new JerkLimiter(limits, dt, axes);
+    }
+
+    private static void requireResolvable(String at, String field, double bound, double margin,
+                                          double dt, double mag) {
+        if (margin > MAX_MARGIN_SHARE * bound) {
+            throw new IllegalArgumentException(at + ": " + field + " " + bound
+                    + " is too small to be resolved at control period " + dt
+                    + " s with positions of magnitude " + mag + " (double rounding alone is " + margin + ")");
+        }
+    }
+
+    /** Number of joints. */
+    public int joints() {
+        return axes.length;
+    }
+
+    /** Control period in seconds. */
+    public double periodSeconds() {
+        return dt;
+    }
+
+    /** The limits this limiter enforces. */
+    public JointLimits limits() {
+        return limits;
+    }
+
+    /**
+     * Sets the state to a measured pose at rest. Same as {@link #reset(double[], double[], double[])}
+     * with zero velocity and acceleration.
+     */
+    public boolean reset(double[] position) {
+        checkLength("position", position);
+        for (int i = 0; i < axes.length; i++) {
+            if (!axes[i].viable(position[i], 0.0, 0.0)) {
+                return false;
+            }
+        }
+        for (int i = 0; i < axes.length; i++) {
+            axes[i].set(position[i], 0.0, 0.0);
+            jointFlags[i] = 0;
+        }
+        return true;
+    }
+
+    /**
+     * Sets the state (position, velocity, acceleration per joint), e.g. from a measured pose.
+     * Nothing changes unless every joint's state is finite, inside the operating range and the
+     * velocity and acceleration bounds, and can stop inside the operating range.
+     *
+     * @param position     read only, length {@link #joints()}
+     * @param velocity     read only, length {@link #joints()}
+     * @param acceleration read only, length {@link #joints()}
+     * @return whether the state was accepted
+     * @throws IllegalArgumentException when an array is null or has the wrong length
+     */
+    public boolean reset(double[] position, double[] velocity, double[] acceleration) {
+        checkLength("position", position);
+        checkLength("velocity", velocity);
+        checkLength("acceleration", acceleration);
+        for (int i = 0; i < axes.length; i++) {
+            if (!axes[i].viable(position[i], velocity[i], acceleration[i])) {
+                return false;
+            }
+        }
+        for (int i = 0; i < axes.length; i++) {
+            axes[i].set(position[i], velocity[i], acceleration[i]);
+            jointFlags[i] = 0;
+        }
+        return true;
+    }
+
+    /** Copies the state of another limiter over the same joints (used when switching limits). */
+    boolean resetFrom(JerkLimiter other) {
+        for (int i = 0; i < axes.length; i++) {
+            AxisFilter o = other.axes[i];
+            if (!axes[i].viable(o.q, o.v, o.a)) {
+                return false;
+            }
+        }
+        for (int i = 0; i < axes.length; i++) {
+            AxisFilter o = other.axes[i];
+            axes[i].set(o.q, o.v, o.a);
+        }
+        return true;
+    }
+
+    /**
+     * Advances one tick toward {@code target} and writes the command.
+     *
+     * @param target  read only, length {@link #joints()}; any values, non-finite included (a
+     *                non-finite entry makes that joint brake to a hold and raises
+     *                {@link #NON_FINITE_TARGET})
+     * @param command written, length {@link #joints()}; always finite and inside the operating range
+     * @return OR of the per-joint flags of this tick
+     */
+    public int apply(double[] target, double[] command) {
+        checkLength("target", target);
+        checkLength("command", command);
+        int all = 0;
+        for (int i = 0; i < axes.length; i++) {
+            int f = axes[i].step(target[i], false);
+            jointFlags[i] = f;
+            all |= f;
+            command[i] = axes[i].q;
+        }
+        return all;
+    }
+
+    /**
+     * Advances one tick along the time-optimal stop under the same bounds (a hold once at rest) and
+     * writes the command.
+     *
+     * @param command written, length {@link #joints()}
+     * @return OR of the per-joint flags of this tick
+     */
+    public int brake(double[] command) {
+        checkLength("command", command);
+        int all = 0;
+        for (int i = 0; i < axes.length; i++) {
+            int f = axes[i].step(0.0, true);
+            jointFlags[i] = f;
+            all |= f;
+            command[i] = axes[i].q;
+        }
+        return all;
+    }
+
+    /** Flags of joint {@code joint} from the last {@link #apply} or {@link #brake}. */
+    public int flags(int joint) {
+        return jointFlags[joint];
+    }
+
+    /** Commanded position of a joint (the last command). */
+    public double position(int joint) {
+        return axes[joint].q;
+    }
+
+    /** Velocity of the commanded trajectory of a joint at the last tick. */
+    public double velocity(int joint) {
+        return axes[joint].v;
+    }
+
+    /** Acceleration of the commanded trajectory of a joint at the last tick. */
+    public double acceleration(int joint) {
+        return axes[joint].a;
+    }
+
+    /** Writes the last command into {@code out} (length {@link #joints()}). */
+    public void position(double[] out) {
+        checkLength("out", out);
+        for (int i = 0; i < axes.length; i++) {
+            out[i] = axes[i].q;
+        }
+    }
+
+    /** Whether every joint has zero velocity and acceleration. */
+    public boolean atRest() {
+        for (AxisFilter ax : axes) {
+            if (ax.v != 0.0 || ax.a != 0.0) {
+                return false;
+            }
+        }
+        return true;
+    }
+
+    /** Time in seconds the stop would take for joint {@code joint} from its current state. */
+    public double stoppingTime(int joint) {
+        return axes[joint].stoppingTime();
+    }
+
+    /** Longest {@link #stoppingTime(int)} over the joints. */
+    public double stoppingTime() {
+        double t = 0.0;
+        for (int i = 0; i < axes.length; i++) {
+            t = Math.max(t, axes[i].stoppingTime());
+        }
+        return t;
+    }
+
+    /** Position at which joint {@code joint} comes to rest if the stop starts now. */
+    public double restPosition(int joint) {
+        return axes[joint].restPosition();
+    }
+
+    private void checkLength(String what, double[] x) {
+        if (x == null || x.length != axes.length) {
+            throw new IllegalArgumentException("jerk limiter: " + what + " must have length " + axes.length
+                    + ", was " + (x == null ? "null" : String.valueOf(x.length)));
+        }
+    }
+}

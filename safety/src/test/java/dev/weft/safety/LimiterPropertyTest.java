@@ -1,0 +1,173 @@
+package dev.weft.safety;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import java.util.SplittableRandom;
+import org.junit.jupiter.api.Test;
+
+/**
+ * Invariant 1 of the design: for any target sequence, the emitted commands stay inside the
+ * operating range and their finite differences stay inside the velocity, acceleration and jerk
+ * bounds. Measured on the emitted sequence itself by {@link BoundChecker}. Plain seeded loops.
+ */
+class LimiterPropertyTest {
+
+    private static final long SEED = 0x5EEDF00DL;
+    private static final int EPISODES = 100;
+    private static final int TICKS_PER_EPISODE = 10_000;
+
+    @Test
+    void millionTicksOfHostileTargetsNeverExceedABound() {
+        SplittableRandom rng = new SplittableRandom(SEED);
+        long ticks = 0;
+        long violations = 0;
+        long faults = 0;
+        long nonFiniteSeen = 0;
+        long nonFiniteFlagged = 0;
+        long boundFlags = 0;
+        String first = null;
+        for (int e = 0; e < EPISODES; e++) {
+            int joints = 1 + rng.nextInt(3);
+            JointLimits limits = randomLimits(rng, joints);
+            double dt = rng.nextBoolean() ? 1e-3 : (rng.nextBoolean() ? 2e-3 : 1e-2);
+            JerkLimiter limiter = JerkLimiter.create(limits, dt);
+            double[] start = new double[joints];
+            for (int i = 0; i < joints; i++) {
+                start[i] = uniform(rng, limits.operatingMin(i), limits.operatingMax(i));
+            }
+            assertThat(limiter.reset(start)).isTrue();
+            BoundChecker checker = new BoundChecker(limits, dt);
+            checker.start(start, null, null);
+            TargetSource source = new TargetSource(rng, limits, dt);
+            double[] target = new double[joints];
+            double[] command = new double[joints];
+            for (int k = 1; k <= TICKS_PER_EPISODE; k++) {
+                source.next(k, target);
+                int flags = limiter.apply(target, command);
+                checker.accept(k, command);
+                boolean anyNonFinite = false;
+                for (double x : target) {
+                    anyNonFinite |= !Double.isFinite(x);
+                }
+                if (anyNonFinite) {
+                    nonFiniteSeen++;
+                    if ((flags & JerkLimiter.NON_FINITE_TARGET) != 0) {
+                        nonFiniteFlagged++;
+                    }
+                }
+                if ((flags & (JerkLimiter.NOT_VIABLE | JerkLimiter.POSITION_CLAMPED)) != 0) {
+                    faults++;
+                }
+                if ((flags & (JerkLimiter.POSITION | JerkLimiter.VELOCITY | JerkLimiter.ACCELERATION)) != 0) {
+                    boundFlags++;
+                }
+                ticks++;
+            }
+            violations += checker.violations;
+            if (first == null && checker.firstViolation != null) {
+                first = "episode " + e + ": " + checker.firstViolation;
+            }
+        }
+        System.out.printf("limiter property: %d ticks, %d violations, %d non-finite ticks, %d bound-shaped ticks%n",
+                ticks, violations, nonFiniteSeen, boundFlags);
+        assertThat(ticks).isGreaterThanOrEqualTo(1_000_000L);
+        assertThat(violations).as("bound violations, first: %s", first).isZero();
+        assertThat(faults).as("ticks with NOT_VIABLE or POSITION_CLAMPED").isZero();
+        assertThat(nonFiniteSeen).as("the generator produced NaN bursts").isPositive();
+        assertThat(nonFiniteFlagged).isEqualTo(nonFiniteSeen);
+        assertThat(boundFlags).as("the generator drove the limiter into its bounds").isPositive();
+    }
+
+    static JointLimits randomLimits(SplittableRandom rng, int joints) {
+        JointLimits.Builder b = JointLimits.builder();
+        for (int i = 0; i < joints; i++) {
+            double center = uniform(rng, -3, 3);
+            double half = Math.exp(uniform(rng, Math.log(0.05), Math.log(3.0)));
+            double vel = Math.exp(uniform(rng, Math.log(0.1), Math.log(10)));
+            double acc = Math.exp(uniform(rng, Math.log(0.5), Math.log(100)));
+            double jerk = Math.exp(uniform(rng, Math.log(5), Math.log(5000)));
+            double margin = rng.nextBoolean() ? 0.0 : uniform(rng, 0, 0.2 * half);
+            b.joint("j" + i, center - half, center + half, vel, acc, jerk, margin);
+        }
+        return b.build();
+    }
+
+    static double uniform(SplittableRandom rng, double lo, double hi) {
+        return lo + (hi - lo) * rng.nextDouble();
+    }
+
+    /** Seeded hostile targets: steps, chirps, noise, NaN bursts, out-of-range jumps, switching every few hundred ticks. */
+    static final class TargetSource {
+        private final SplittableRandom rng;
+        private final JointLimits limits;
+        private final double dt;
+        private int mode;
+        private int modeLeft;
+        private final double[] level;
+        private double f0;
+        private double f1;
+        private double span;
+
+        TargetSource(SplittableRandom rng, JointLimits limits, double dt) {
+            this.rng = rng;
+            this.limits = limits;
+            this.dt = dt;
+            this.level = new double[limits.count()];
+        }
+
+        void next(int tick, double[] target) {
+            if (modeLeft <= 0) {
+                mode = rng.nextInt(7);
+                modeLeft = 1 + rng.nextInt(mode == 4 ? 20 : 600);
+                span = 50 + rng.nextInt(2000);
+                f0 = uniform(rng, 0.05, 2);
+                f1 = uniform(rng, 2, 60);
+                for (int i = 0; i < level.length; i++) {
+                    level[i] = widened(i, 1.6);
+                }
+            }
+            modeLeft--;
+            double t = tick * dt;
+            for (int i = 0; i < target.length; i++) {
+                double lo = limits.operatingMin(i);
+                double hi = limits.operatingMax(i);
+                double mid = 0.5 * (lo + hi);
+                double half = 0.5 * (hi - lo);
+                switch (mode) {
+                    case 0: // step to a level, possibly outside the range
+                        target[i] = level[i];
+                        break;
+                    case 1: // chirp, amplitude beyond the range
+                        double frac = (tick % (int) span) / span;
+                        double f = f0 + (f1 - f0) * frac;
+                        target[i] = mid + 1.3 * half * Math.sin(2 * Math.PI * f * t);
+                        break;
+                    case 2: // white noise over (and beyond) the range
+                        target[i] = widened(i, 1.4);
+                        break;
+                    case 3: // noise around a level
+                        target[i] = level[i] + 0.05 * half * (rng.nextDouble() - 0.5);
+                        break;
+                    case 4: // NaN / infinity burst
+                        int pick = rng.nextInt(4);
+                        target[i] = pick == 0 ? Double.NaN : pick == 1 ? Double.POSITIVE_INFINITY
+                                : pick == 2 ? Double.NEGATIVE_INFINITY : level[i];
+                        break;
+                    case 5: // far out-of-range jumps, alternating
+                        target[i] = (tick / 7) % 2 == 0 ? hi + 1e6 * half : lo - 1e300;
+                        break;
+                    default: // ramp through the whole range and beyond
+                        target[i] = lo - half + 4 * half * ((tick % (int) span) / span);
+                        break;
+                }
+            }
+        }
+
+        private double widened(int i, double factor) {
+            double lo = limits.operatingMin(i);
+            double hi = limits.operatingMax(i);
+            double mid = 0.5 * (lo + hi);
+            return mid + factor * (hi - lo) * (rng.nextDouble() - 0.5);
+        }
+    }
+}
