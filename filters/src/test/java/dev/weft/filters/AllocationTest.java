@@ -1,0 +1,62 @@
+package dev.weft.filters;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import java.lang.management.ManagementFactory;
+import java.util.Random;
+import org.junit.jupiter.api.Test;
+
+/**
+ * The per-tick paths (accept, actionAt, ticksRemaining, smoother apply) allocate nothing: measured with
+ * the JVM's per-thread allocation counter (com.sun.management.ThreadMXBean), not with timing.
+ */
+class AllocationTest {
+
+    private static final com.sun.management.ThreadMXBean THREADS =
+            (com.sun.management.ThreadMXBean) ManagementFactory.getThreadMXBean();
+
+    private static long allocated() {
+        return THREADS.getThreadAllocatedBytes(Thread.currentThread().getId());
+    }
+
+    @Test
+    void steadyStateTicksAllocateNothing() {
+        ChunkBlender[] blenders = {
+            TemporalEnsembleBlender.oldestFirst(7, 16, 5.0, Interpolation.CUBIC_HERMITE, 0.1),
+            TemporalEnsembleBlender.newestFirst(7, 16, 5.0, Interpolation.LINEAR, 0.1),
+            LatestChunkBlender.firstSteps(7, 16, 5.0, Interpolation.CUBIC_HERMITE, 8),
+            CrossfadeBlender.of(7, 16, 5.0, Interpolation.LINEAR, 3)};
+        Smoother[] smoothers = {ButterworthLowPass.of(7, 500, 20), OneEuroFilter.of(7, 500, 1, 0.1, 1)};
+        double[] chunk = new double[16 * 7];
+        Random rnd = new Random(1);
+        for (int i = 0; i < chunk.length; i++) {
+            chunk[i] = rnd.nextGaussian();
+        }
+        double[] out = new double[7];
+        assertThat(allocated()).isPositive();
+        long overhead = -(allocated() - allocated());
+        long tick = 0;
+        long sink = 0;
+        for (int round = 0; round < 3; round++) {
+            long before = allocated();
+            for (int n = 0; n < 20_000; n++, tick++) {
+                for (ChunkBlender b : blenders) {
+                    if (tick % 10 == 0) {
+                        sink += b.accept(chunk, 16, tick - 3, tick);
+                    }
+                    if (b.actionAt(tick, out)) {
+                        sink += b.ticksRemaining(tick);
+                        for (Smoother s : smoothers) {
+                            s.apply(out, out);
+                        }
+                    }
+                }
+            }
+            long bytes = allocated() - before - overhead;
+            if (round > 0) {
+                assertThat(bytes).as("bytes allocated by 80,000 blender ticks, round %d", round).isLessThanOrEqualTo(0);
+            }
+        }
+        assertThat(sink).isPositive();
+    }
+}
