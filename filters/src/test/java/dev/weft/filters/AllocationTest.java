@@ -37,7 +37,7 @@ class AllocationTest {
         long overhead = -(allocated() - allocated());
         long tick = 0;
         long sink = 0;
-        for (int round = 0; round < 3; round++) {
+        for (int round = 0; round < 8; round++) {
             long before = allocated();
             for (int n = 0; n < 20_000; n++, tick++) {
                 for (ChunkBlender b : blenders) {
@@ -53,8 +53,10 @@ class AllocationTest {
                 }
             }
             long bytes = allocated() - before - overhead;
-            if (round > 0) {
-                assertThat(bytes).as("bytes allocated by 80,000 blender ticks, round %d", round).isLessThanOrEqualTo(0);
+            // The first rounds include one-off costs of warming up (a few hundred bytes in total, from
+            // resolving and compiling code); the steady state that follows must be exactly zero.
+            if (round >= 3) {
+                assertThat(bytes).as("bytes allocated by 20,000 ticks of four blenders, round %d", round).isLessThanOrEqualTo(0);
             }
         }
         assertThat(sink).isPositive();
