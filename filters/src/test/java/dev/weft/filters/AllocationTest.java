@@ -16,7 +16,7 @@ class AllocationTest {
             (com.sun.management.ThreadMXBean) ManagementFactory.getThreadMXBean();
 
     private static long allocated() {
-        return THREADS.getThreadAllocatedBytes(Thread.currentThread().getId());
+        return THREADS.getCurrentThreadAllocatedBytes();
     }
 
     @Test
@@ -53,7 +53,7 @@ class AllocationTest {
                 }
             }
             long bytes = allocated() - before - overhead;
-            // The first rounds include one-off costs of warming up (a few hundred bytes in total, from
+            // The first rounds include one-off costs of warming up (about two kilobytes, from
             // resolving and compiling code); the steady state that follows must be exactly zero.
             if (round >= 3) {
                 assertThat(bytes).as("bytes allocated by 20,000 ticks of four blenders, round %d", round).isLessThanOrEqualTo(0);
