@@ -9,15 +9,24 @@ package dev.weft.filters;
  *   b0 = K²/(1 + √2K + K²),  b1 = 2·b0,  b2 = b0,
  *   a1 = 2(K² − 1)/(1 + √2K + K²),  a2 = (1 − √2K + K²)/(1 + √2K + K²)
  * </pre>
- * so that {@code y[n] = b0·x[n] + b1·x[n−1] + b2·x[n−2] − a1·y[n−1] − a2·y[n−2]}. The DC gain is 1 and,
- * thanks to the pre-warping, the gain at {@code fc} is exactly {@code 1/√2} (−3.01 dB). Run in transposed
- * direct form II.
+ * so that {@code H(z) = B(z)/A(z)}, i.e. {@code y[n] = b0·x[n] + b1·x[n−1] + b2·x[n−2] − a1·y[n−1] − a2·y[n−2]}.
+ * {@code b0} is computed as {@code (1 + a1 + a2)/4}, the same value in real arithmetic, so that the reported
+ * coefficients have DC gain 1 to rounding even for very low cutoffs. Thanks to the pre-warping the gain at
+ * {@code fc} is exactly {@code 1/√2} (−3.01 dB).
+ *
+ * <p>Realisation: since {@code B(1) = A(1)}, {@code A − B} has a zero at DC and factors as
+ * {@code (1 − z⁻¹)·(c0 + c1·z⁻¹)} with {@code c0 = 1 − b0}, {@code c1 = b2 − a2}. The filter runs as
+ * {@code y = x − g}, {@code g = (c0 + c1·z⁻¹)/A(z) · (x[n] − x[n−1])} (transposed direct form II for
+ * {@code g}): the same transfer function, but the DC gain is exactly 1 by construction — a constant input
+ * comes out bit-for-bit unchanged once the ringing has died away, and immediately after a reset to that
+ * value — instead of drifting by the rounding of ill-conditioned low-cutoff coefficients.
  *
  * <p>Threading and allocation: see {@link Smoother}.
  */
 public final class ButterworthLowPass implements Smoother {
 
     private static final String KIND = "butterworth low-pass";
+    private static final double FLUSH = 1e-250;
 
     private final int dims;
     private final double sampleRateHz;
@@ -27,6 +36,9 @@ public final class ButterworthLowPass implements Smoother {
     private final double b2;
     private final double a1;
     private final double a2;
+    private final double c0;
+    private final double c1;
+    private final double[] previousInput;
     private final double[] s1;
     private final double[] s2;
     private boolean primed;
@@ -48,11 +60,17 @@ public final class ButterworthLowPass implements Smoother {
         double k2 = k * k;
         double root2k = Math.sqrt(2.0) * k;
         double norm = 1.0 / (1.0 + root2k + k2);
-        this.b0 = k2 * norm;
-        this.b1 = 2.0 * b0;
-        this.b2 = b0;
         this.a1 = 2.0 * (k2 - 1.0) * norm;
         this.a2 = (1.0 - root2k + k2) * norm;
+        // b0 = K²·norm equals (1 + a1 + a2)/4 exactly in real arithmetic; taking it from the rounded
+        // feedback coefficients makes the DC gain (b0 + b1 + b2)/(1 + a1 + a2) equal 1 to rounding even
+        // for very low cutoffs, where 1 + a1 + a2 is tiny and K²·norm would miss it by up to 1e-8.
+        this.b0 = (1.0 + a1 + a2) / 4.0;
+        this.b1 = 2.0 * b0;
+        this.b2 = b0;
+        this.c0 = 1.0 - b0;
+        this.c1 = b2 - a2;
+        this.previousInput = new double[dims];
         this.s1 = new double[dims];
         this.s2 = new double[dims];
     }
@@ -119,10 +137,15 @@ public final class ButterworthLowPass implements Smoother {
         }
         for (int d = 0; d < dims; d++) {
             double x = in[d];
-            double y = b0 * x + s1[d];
-            s1[d] = b1 * x - a1 * y + s2[d];
-            s2[d] = b2 * x - a2 * y;
-            out[d] = y;
+            double dx = x - previousInput[d];
+            double g = c0 * dx + s1[d];
+            double next1 = c1 * dx - a1 * g + s2[d];
+            double next2 = -a2 * g;
+            // Flush state that has decayed below any meaningful size, so it never lingers as subnormals.
+            s1[d] = Math.abs(next1) < FLUSH ? 0.0 : next1;
+            s2[d] = Math.abs(next2) < FLUSH ? 0.0 : next2;
+            previousInput[d] = x;
+            out[d] = x - g;
         }
         return true;
     }
@@ -138,12 +161,12 @@ public final class ButterworthLowPass implements Smoother {
         primed = false;
     }
 
-    /** Steady state of the transposed direct form II for constant input x with output x. */
+    /** Rest at a constant input: no change pending, nothing ringing. */
     private void restAt(double[] value) {
         for (int d = 0; d < dims; d++) {
-            double x = value[d];
-            s1[d] = (1.0 - b0) * x;
-            s2[d] = (b2 - a2) * x;
+            previousInput[d] = value[d];
+            s1[d] = 0.0;
+            s2[d] = 0.0;
         }
         primed = true;
     }
