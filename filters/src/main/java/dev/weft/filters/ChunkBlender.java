@@ -43,21 +43,28 @@ public interface ChunkBlender {
      * exactly as before. A chunk whose executable steps all lie before {@code nowTick} contributes
      * nothing, returns 0 and is counted in {@link #expiredChunks()}.
      *
+     * <p>Cost O(T·D) where T is the number of ticks covered (about K·r); allocation-free; control-loop
+     * thread only.
+     *
      * @param chunk      flat row-major {@code steps × dimensions()} values (step-major: step j, joint d at
-     *                   {@code j·D + d}); may be longer than needed; read only, not retained (copy-free: the
-     *                   values are resampled into the blender's own ring before returning)
+     *                   {@code j·D + d}); may be longer than needed; read only and not retained: its values are
+     *                   resampled into the blender's own ring before this returns
      * @param steps      number of steps K in this chunk, {@code 1 ≤ steps ≤ maxSteps()}
      * @param originTick the control tick of the observation the chunk was computed from, {@code ≥ 0}
      * @param nowTick    the current control tick, {@code ≥ originTick}, never less than in an earlier call
      * @return the number of control ticks of plan this chunk contributed to ({@code ≥ 0}), or one of the
      *         negative codes {@link #REJECTED_SHAPE}, {@link #REJECTED_NON_FINITE},
      *         {@link #REJECTED_TICKS}, {@link #SUPERSEDED}
-     *         <p>Cost O(T·D) where T is the number of ticks covered (≈ K·r); allocation-free; control-loop thread only.
      */
     int accept(double[] chunk, int steps, long originTick, long nowTick);
 
     /**
      * Writes the blended action for {@code tick} into {@code out[0..dimensions())}.
+     *
+     * <p>Cost O(D), independent of chunk length and overlap; allocation-free; control-loop thread only.
+     * The action is a weighted mean or interpolation of accepted finite values; it can only be non-finite
+     * if those values come within a few orders of magnitude of {@code Double.MAX_VALUE} (the safety
+     * module's finite-value guard stands behind it either way).
      *
      * @param tick a control tick, normally the current one
      * @param out  caller-owned, length at least {@code dimensions()}; modified only when this returns {@code true}
@@ -65,15 +72,16 @@ public interface ChunkBlender {
      *         is history) leaves {@code out} untouched
      * @throws IllegalArgumentException if {@code out} is null or shorter than {@code dimensions()} (a
      *         programming error, never a data error)
-     *         <p>Cost O(D), independent of chunk length and overlap; allocation-free; control-loop thread only.
      */
     boolean actionAt(long tick, double[] out);
 
     /**
-     * How many consecutive ticks, starting at and including {@code tick}, the plan covers.
+     * How many consecutive ticks, starting at and including {@code tick}, the plan covers. O(1);
+     * allocation-free; control-loop thread only.
      *
-     * @return 0 when {@code tick} has no plan (starvation), otherwise {@code planEnd − tick + 1}
-     *         <p>O(1); allocation-free; control-loop thread only.
+     * @param tick a control tick, normally the current one
+     * @return 0 when {@code tick} has no plan (starvation, or the tick is history), otherwise
+     *         {@code planEnd − tick + 1}
      */
     long ticksRemaining(long tick);
 

@@ -14,6 +14,10 @@ package dev.weft.filters;
  * </ul>
  * {@code m = 0} is the plain mean in both.
  *
+ * <p>With a step ratio {@code r ≠ 1} each chunk is first resampled onto control ticks by its own
+ * interpolation (see {@link ChunkBlender}), and the weighting then applies per tick: {@code i} counts the
+ * chunks that cover that tick, in arrival order.
+ *
  * <p>Implementation: a ring of per-tick running sums. Oldest-first keeps per tick {@code Σ w·a},
  * {@code Σ w} and the weight the next contribution will get ({@code exp(−m)^count}); newest-first
  * multiplies both sums by {@code exp(−m)} before adding the new contribution with weight 1. Reading is
