@@ -24,17 +24,36 @@ class BlenderDifferentialTest {
     void agreesWithPlainReferenceOnRandomSchedules(ReferenceBlender.Kind kind) {
         long comparedActions = 0;
         for (int seed = 0; seed < SCHEDULES; seed++) {
-            comparedActions += runSchedule(kind, seed);
+            comparedActions += runSchedule(kind, seed, Double.NaN, 24, 300, 0.1, 0.5);
         }
         // The schedules must actually exercise the plan, not only starvation.
         assertThat(comparedActions).isGreaterThan(SCHEDULES * 50L);
     }
 
-    private static long runSchedule(ReferenceBlender.Kind kind, long seed) {
+    /** A 10 Hz policy driving a 500 Hz loop: r = 50, a chunk every few dozen ticks. */
+    @ParameterizedTest
+    @EnumSource(ReferenceBlender.Kind.class)
+    void agreesWithPlainReferenceAtTenHertzPolicyFiveHundredHertzLoop(ReferenceBlender.Kind kind) {
+        long comparedActions = 0;
+        for (int seed = 0; seed < 20; seed++) {
+            comparedActions += runSchedule(kind, 1000 + seed, 50.0, 6, 600, 0.01, 0.04);
+        }
+        assertThat(comparedActions).isGreaterThan(20 * 100L);
+    }
+
+    /**
+     * One seeded schedule.
+     *
+     * @param ratio NaN for a random step ratio
+     * @return how many actions were compared
+     */
+    private static long runSchedule(ReferenceBlender.Kind kind, long seed, double ratio, int stepsLimit, int ticks,
+            double minArrivalRate, double maxArrivalRate) {
         Random rnd = new Random(seed * 7919 + kind.ordinal());
         int dims = 1 + rnd.nextInt(6);
-        int maxSteps = 1 + rnd.nextInt(24);
-        double r = rnd.nextInt(4) == 0 ? 0.3 + 9.7 * rnd.nextDouble() : RATIOS[rnd.nextInt(RATIOS.length)];
+        int maxSteps = 1 + rnd.nextInt(stepsLimit);
+        double r = !Double.isNaN(ratio) ? ratio
+                : rnd.nextInt(4) == 0 ? 0.3 + 9.7 * rnd.nextDouble() : RATIOS[rnd.nextInt(RATIOS.length)];
         Interpolation interp = rnd.nextBoolean() ? Interpolation.LINEAR : Interpolation.CUBIC_HERMITE;
         double m = rnd.nextInt(5) == 0 ? 0.0 : 1.5 * rnd.nextDouble();
         int executed = 1 + rnd.nextInt(maxSteps);
@@ -58,11 +77,12 @@ class BlenderDifferentialTest {
         double[] chunk = new double[maxSteps * dims + rnd.nextInt(3)];
         double[] got = new double[dims];
         double[] want = new double[dims];
-        double arrivalRate = 0.1 + 0.5 * rnd.nextDouble();
+        double arrivalRate = minArrivalRate + (maxArrivalRate - minArrivalRate) * rnd.nextDouble();
         long compared = 0;
         long start = rnd.nextInt(30);
-        for (long now = start; now < start + 300; now++) {
-            boolean gap = (now / 40) % 3 == 2;
+        long gapLength = Math.max(40, ticks / 8);
+        for (long now = start; now < start + ticks; now++) {
+            boolean gap = (now / gapLength) % 3 == 2;
             int arrivals = gap ? 0 : (rnd.nextDouble() < arrivalRate ? 1 + rnd.nextInt(3) : 0);
             for (int a = 0; a < arrivals; a++) {
                 int steps = 1 + rnd.nextInt(maxSteps);
