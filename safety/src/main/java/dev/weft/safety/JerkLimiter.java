@@ -200,19 +200,18 @@ public final class JerkLimiter {
         return true;
     }
 
-    /** Copies the state of another limiter over the same joints (used when switching limits). */
+    /**
+     * Copies the state of another limiter over the same joints (used when switching limits) and
+     * returns whether every joint's copied state is viable under this limiter's bounds.
+     */
     boolean resetFrom(JerkLimiter other) {
+        boolean ok = true;
         for (int i = 0; i < axes.length; i++) {
             AxisFilter o = other.axes[i];
-            if (!axes[i].viable(o.q, o.v, o.a)) {
-                return false;
-            }
-        }
-        for (int i = 0; i < axes.length; i++) {
-            AxisFilter o = other.axes[i];
+            ok &= axes[i].viable(o.q, o.v, o.a);
             axes[i].set(o.q, o.v, o.a);
         }
-        return true;
+        return ok;
     }
 
     /**

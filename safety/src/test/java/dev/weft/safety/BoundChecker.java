@@ -20,6 +20,7 @@ final class BoundChecker {
     private long samples;
     long violations;
     String firstViolation;
+    /** Largest |v|/V, |a|/A, |j|/J seen. */
     final double[] worstShare;
 
     BoundChecker(JointLimits limits, double dt) {
@@ -29,7 +30,7 @@ final class BoundChecker {
         q1 = new double[n];
         v1 = new double[n];
         a1 = new double[n];
-        worstShare = new double[4];
+        worstShare = new double[3];
     }
 
     /** Starts a new sequence at a known state (position and finite-difference velocity/acceleration). */
@@ -50,13 +51,12 @@ final class BoundChecker {
             double lo = limits.operatingMin(i);
             double hi = limits.operatingMax(i);
             check(tick, i, "position", !(q[i] >= lo && q[i] <= hi), q[i]);
-            share(0, Math.max(lo - q[i], q[i] - hi) <= 0 ? 0 : 1);
             check(tick, i, "velocity", !(Math.abs(v) <= limits.velocity(i) * (1 + RELATIVE_TOLERANCE)), v);
             check(tick, i, "acceleration", !(Math.abs(a) <= limits.acceleration(i) * (1 + RELATIVE_TOLERANCE)), a);
             check(tick, i, "jerk", !(Math.abs(j) <= limits.jerk(i) * (1 + RELATIVE_TOLERANCE)), j);
-            share(1, Math.abs(v) / limits.velocity(i));
-            share(2, Math.abs(a) / limits.acceleration(i));
-            share(3, Math.abs(j) / limits.jerk(i));
+            share(0, Math.abs(v) / limits.velocity(i));
+            share(1, Math.abs(a) / limits.acceleration(i));
+            share(2, Math.abs(j) / limits.jerk(i));
             q1[i] = q[i];
             v1[i] = v;
             a1[i] = a;

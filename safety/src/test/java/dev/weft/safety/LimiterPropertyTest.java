@@ -26,6 +26,7 @@ class LimiterPropertyTest {
         long nonFiniteFlagged = 0;
         long boundFlags = 0;
         String first = null;
+        double[] worst = new double[3];
         for (int e = 0; e < EPISODES; e++) {
             int joints = 1 + rng.nextInt(3);
             JointLimits limits = randomLimits(rng, joints);
@@ -64,18 +65,26 @@ class LimiterPropertyTest {
                 ticks++;
             }
             violations += checker.violations;
+            for (int w = 0; w < 3; w++) {
+                worst[w] = Math.max(worst[w], checker.worstShare[w]);
+            }
             if (first == null && checker.firstViolation != null) {
                 first = "episode " + e + ": " + checker.firstViolation;
             }
         }
-        System.out.printf("limiter property: %d ticks, %d violations, %d non-finite ticks, %d bound-shaped ticks%n",
-                ticks, violations, nonFiniteSeen, boundFlags);
+        System.out.printf("limiter property: %d ticks, %d violations, %d non-finite ticks, %d bound-shaped ticks,"
+                + " worst |v|/V %.12f |a|/A %.12f |j|/J %.12f%n",
+                ticks, violations, nonFiniteSeen, boundFlags, worst[0], worst[1], worst[2]);
         assertThat(ticks).isGreaterThanOrEqualTo(1_000_000L);
         assertThat(violations).as("bound violations, first: %s", first).isZero();
         assertThat(faults).as("ticks with NOT_VIABLE or POSITION_CLAMPED").isZero();
         assertThat(nonFiniteSeen).as("the generator produced NaN bursts").isPositive();
         assertThat(nonFiniteFlagged).isEqualTo(nonFiniteSeen);
         assertThat(boundFlags).as("the generator drove the limiter into its bounds").isPositive();
+        // the bounds were reached, not merely respected from far away
+        assertThat(worst[0]).isGreaterThan(0.99);
+        assertThat(worst[1]).isGreaterThan(0.99);
+        assertThat(worst[2]).isGreaterThan(0.99);
     }
 
     static JointLimits randomLimits(SplittableRandom rng, int joints) {

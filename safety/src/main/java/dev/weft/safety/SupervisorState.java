@@ -1,0 +1,15 @@
+package dev.weft.safety;
+
+/** Modes of the {@link Supervisor}. */
+public enum SupervisorState {
+    /** Not following the plan; only hold commands go out. */
+    DISARMED,
+    /** Soft start: from the measured pose toward the plan under reduced limits. */
+    ARMING,
+    /** Following the plan through the limiter. */
+    ARMED,
+    /** Controlled stop: velocity brought to zero under the acceleration and jerk bounds. */
+    STOPPING,
+    /** Latched after a fault and a completed stop; holds until an explicit reset once the fault has cleared. */
+    FAULTED
+}
