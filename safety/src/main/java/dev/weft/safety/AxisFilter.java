@@ -46,6 +46,11 @@ final class AxisFilter {
     double v;
     double a;
 
+    /** Rate of the (clamped) target over the last tick, clamped to the velocity bound. */
+    private double targetRate;
+    private double previousWall;
+    private boolean havePrevious;
+
     private final double[] base = new double[6];
     private final double[] prof = new double[6];
 
@@ -97,6 +102,8 @@ final class AxisFilter {
         q = q0;
         v = v0;
         a = a0;
+        havePrevious = false;
+        targetRate = 0.0;
     }
 
     /**
@@ -290,8 +297,12 @@ final class AxisFilter {
         if (pQmin < qLo - slack || pQmax > qHi + slack) {
             return FAIL_POSITION;
         }
-        if ((dir > 0 && pQend > wall) || (dir < 0 && pQend < wall)) {
-            return FAIL_TARGET;
+        if (dir != 0) {
+            // Where the successor comes to rest relative to the target moving on at its current rate.
+            profileExtremes(nq - wall, nv - targetRate, na);
+            if ((dir > 0 && pQend > 0.0) || (dir < 0 && pQend < 0.0)) {
+                return FAIL_TARGET;
+            }
         }
         return OK;
     }
@@ -316,13 +327,27 @@ final class AxisFilter {
                 wall = qLo;
                 flags |= JerkLimiter.POSITION;
             }
-            profileExtremes(q, v, a);
-            double rest = pQend;
-            if (wall > rest + arriveTol) {
+            double rate = havePrevious ? (wall - previousWall) / dt : 0.0;
+            targetRate = Math.max(-vStrict, Math.min(vStrict, rate));
+            previousWall = wall;
+            havePrevious = true;
+            // Where the current state comes to rest relative to where the target was a tick ago,
+            // moving on at its rate: behind it, push forward; ahead of it, push back.
+            profileExtremes(q - (wall - targetRate * dt), v - targetRate, a);
+            double lead = pQend;
+            if (lead < -arriveTol) {
                 dir = 1;
-            } else if (wall < rest - arriveTol) {
+            } else if (lead > arriveTol) {
                 dir = -1;
+            } else if (targetRate != 0.0) {
+                dir = targetRate > 0.0 ? 1 : -1;
             }
+        }
+        if (dir == 0) {
+            targetRate = 0.0;
+        }
+        if (brakeOnly || !Double.isFinite(r)) {
+            havePrevious = false;
         }
         double lambda = 0.0;
         if (dir != 0) {

@@ -156,6 +156,35 @@ class JerkLimiterTest {
     }
 
     @Test
+    void followsARampWithoutLagOnceMatchedAndASlowSineClosely() {
+        JointLimits limits = JointLimits.builder().joint("x", -10, 10, 1.0, 5.0, 50.0).build();
+        JerkLimiter l = JerkLimiter.create(limits, DT);
+        l.reset(new double[] {0});
+        double[] cmd = new double[1];
+        double worstLate = 0;
+        for (int k = 1; k <= 8000; k++) {
+            double r = 0.4 * k * DT;
+            l.apply(new double[] {r}, cmd);
+            if (k > 3000) {
+                worstLate = Math.max(worstLate, Math.abs(cmd[0] - r));
+            }
+        }
+        // the target's own rate is taken into account: a ramp is followed exactly, not a stopping distance behind
+        assertThat(worstLate).isLessThan(1e-8);
+        l.reset(new double[] {0});
+        double worstSine = 0;
+        for (int k = 1; k <= 8000; k++) {
+            double r = 0.5 * Math.sin(0.8 * k * DT);
+            l.apply(new double[] {r}, cmd);
+            if (k > 3000) {
+                worstSine = Math.max(worstSine, Math.abs(cmd[0] - r));
+            }
+        }
+        assertThat(worstSine).isLessThan(1e-4);
+        System.out.printf("tracking: ramp error %.3g, sine error %.3g%n", worstLate, worstSine);
+    }
+
+    @Test
     void boundCheckerCatchesAViolationThatAPlainClampWouldMake() {
         // Guard against a check that cannot fail: a position clamp of a step violates every derivative bound.
         JointLimits limits = twoJoints();
