@@ -1,0 +1,551 @@
+package dev.weft.runtime.loop;
+
+import dev.weft.filters.ChunkBlender;
+import dev.weft.filters.Smoother;
+import dev.weft.runtime.port.CommandFrame;
+import dev.weft.runtime.port.CommandPort;
+import dev.weft.runtime.source.ObservationSource;
+import dev.weft.runtime.telemetry.CsvRecorder;
+import dev.weft.runtime.telemetry.TelemetryRow;
+import dev.weft.safety.Cause;
+import dev.weft.safety.StopCategory;
+import dev.weft.safety.Supervisor;
+import dev.weft.safety.SupervisorState;
+import dev.weft.safety.TransitionListener;
+import dev.weft.safety.Watchdog;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.atomic.AtomicLong;
+import java.util.concurrent.locks.LockSupport;
+import java.util.function.Function;
+import org.HdrHistogram.Histogram;
+import org.HdrHistogram.SingleWriterRecorder;
+
+/**
+ * The fixed-rate control loop: one thread, absolute deadlines {@code t0 + n·Δc}, each tick the
+ * nine steps of the design (read the observation, request inference on schedule, drain finished
+ * chunks into the blender, read the target, smooth, limit and supervise, check the watchdog,
+ * emit, record telemetry).
+ *
+ * <p><b>Overruns.</b> A tick that ends after the next deadline is an overrun, counted, and the
+ * consecutive count goes to the watchdog. The loop never catches up by running ticks back to
+ * back: when it wakes more than one period late, the deadlines it missed are skipped (counted in
+ * {@link LoopStatus#skipped()}), and it runs the tick whose deadline passed last, so tick numbers
+ * stay tied to time and the plan is never shifted. Each executed tick sends one command and writes
+ * one telemetry row.
+ *
+ * <p><b>Commands from other threads</b> ({@link #arm}, {@link #disarm}, {@link #reset},
+ * {@link #operatorStop}) are handed to the loop thread through a one-slot mailbox and carried out
+ * at the start of the next tick; the caller waits for the outcome, the loop never waits for the
+ * caller.
+ *
+ * <p><b>Timing records</b> go into HdrHistogram recorders (period error with coordinated-omission
+ * correction at the control period, compute time, inference latency), read by
+ * {@link #histograms} from another thread without stopping the loop.
+ *
+ * <p>Threading: the loop thread runs every step; {@link #start}, {@link #shutdown}, {@link #close}
+ * and the commands come from other threads. The steady-state tick allocates nothing and never
+ * blocks.
+ */
+public final class ControlLoop implements AutoCloseable {
+
+    /** Largest value the histograms record; larger values are clamped to it. */
+    public static final long HISTOGRAM_MAX_NANOS = TimeUnit.SECONDS.toNanos(10);
+
+    private static final int CMD_NONE = 0;
+    private static final int CMD_ARM = 1;
+    private static final int CMD_DISARM = 2;
+    private static final int CMD_RESET = 3;
+
+    /** {@link #arm} result: there was no plan covering the current tick to arm toward. */
+    public static final int ARM_REFUSED_NO_PLAN = 35;
+    /** Result of a command the loop did not carry out within the caller's timeout. */
+    public static final int COMMAND_TIMED_OUT = -1;
+    /** Result of a command given when the loop is not running. */
+    public static final int NOT_RUNNING = -2;
+
+    private final LoopClock clock;
+    private final WaitStrategy wait;
+    private final LoopSettings settings;
+    private final long period;
+    private final ObservationSource source;
+    private final Inference worker;
+    private final ChunkBlender blender;
+    private final Smoother smoother;
+    private final Watchdog watchdog;
+    private final Function<double[], Supervisor> supervisorFactory;
+    private final CommandPort port;
+    private final CsvRecorder<TelemetryRow> telemetry;
+    private final int joints;
+    private final int[] positionIndex;
+    private final StopCategory stopCategory;
+    private final boolean virtualTime;
+
+    private final double[] observation;
+    private final double[] measured;
+    private final double[] target;
+    private final double[] command;
+    private final CommandFrame frame;
+    private final Sink sink = new Sink();
+
+    private final SingleWriterRecorder periodError = new SingleWriterRecorder(HISTOGRAM_MAX_NANOS, 3);
+    private final SingleWriterRecorder compute = new SingleWriterRecorder(HISTOGRAM_MAX_NANOS, 3);
+    private final SingleWriterRecorder inference = new SingleWriterRecorder(HISTOGRAM_MAX_NANOS, 3);
+
+    private Supervisor supervisor;
+    private Thread thread;
+    private long t0;
+    private volatile boolean running;
+    private volatile boolean shutdownRequested;
+    private volatile boolean operatorStopRequested;
+    private volatile Throwable failure;
+
+    // mailbox
+    private final Object commandLock = new Object();
+    private volatile int commandKind;
+    private volatile long commandSeq;
+    private volatile long resultSeq;
+    private volatile int commandResult;
+    private long handledSeq;
+
+    // loop-thread state
+    private long tick;
+    private long consecutiveOverruns;
+    private long lastLatencyNanos;
+    private long requestedAtNanos = -1;
+    private long newestOrigin = -1;
+    private boolean nonFiniteThisTick;
+    private long shutdownDeadline = -1;
+
+    // published counters (written by the loop thread with release semantics)
+    private final AtomicLong ticks = new AtomicLong();
+    private final AtomicLong overruns = new AtomicLong();
+    private final AtomicLong skipped = new AtomicLong();
+    private final AtomicLong planTicks = new AtomicLong();
+    private final AtomicLong watchdogMask = new AtomicLong();
+    private final AtomicLong inferences = new AtomicLong();
+    private final AtomicLong inferenceFailures = new AtomicLong();
+    private volatile SupervisorState state = SupervisorState.DISARMED;
+
+    /**
+     * Assembles a loop from its parts; nothing runs until {@link #start}.
+     *
+     * @param supervisorFactory builds the supervisor once the first observation gives the measured
+     *     pose it holds at; it must pass every transition to the listener it was built with
+     * @param telemetry the telemetry recorder, or null for none
+     */
+    public ControlLoop(LoopClock clock, WaitStrategy wait, LoopSettings settings, ObservationSource source,
+                       Inference worker, ChunkBlender blender, Smoother smoother, Watchdog watchdog,
+                       Function<double[], Supervisor> supervisorFactory, StopCategory stopCategory, CommandPort port,
+                       CsvRecorder<TelemetryRow> telemetry) {
+        this.clock = clock;
+        this.wait = wait;
+        this.settings = settings;
+        this.period = settings.periodNanos();
+        this.source = source;
+        this.worker = worker;
+        this.blender = blender;
+        this.smoother = smoother;
+        this.watchdog = watchdog;
+        this.supervisorFactory = supervisorFactory;
+        this.stopCategory = stopCategory;
+        this.port = port;
+        this.telemetry = telemetry;
+        this.virtualTime = clock instanceof ManualClock;
+        this.joints = blender.dimensions();
+        this.positionIndex = settings.positionIndex();
+        if (positionIndex.length != joints) {
+            throw new IllegalArgumentException("position index has " + positionIndex.length + " entries for "
+                    + joints + " joints");
+        }
+        for (int i : positionIndex) {
+            if (i < 0 || i >= source.size()) {
+                throw new IllegalArgumentException("position index " + i + " is outside the observation of "
+                        + source.size() + " values");
+            }
+        }
+        this.observation = new double[source.size()];
+        this.measured = new double[joints];
+        this.target = new double[joints];
+        this.command = new double[joints];
+        this.frame = new CommandFrame(joints);
+    }
+
+    /**
+     * Waits for the first observation (up to the configured timeout), builds the supervisor at the
+     * measured pose and starts the loop thread, disarmed.
+     *
+     * @throws IllegalStateException when no observation arrived in time or the pose is not accepted
+     */
+    public void start(String threadName) {
+        prepare();
+        thread = new Thread(this::run, threadName);
+        thread.start();
+    }
+
+    /** Everything {@link #start} does but starting the thread; tests then call {@link #runTick()}. */
+    void prepare() {
+        long waitStart = System.nanoTime();
+        long time;
+        while ((time = source.latest(observation)) < 0) {
+            if (System.nanoTime() - waitStart > settings.firstObservationTimeoutNanos()) {
+                throw new IllegalStateException("no observation arrived within "
+                        + TimeUnit.NANOSECONDS.toMillis(settings.firstObservationTimeoutNanos()) + " ms from "
+                        + source.describe());
+            }
+            if (clock instanceof ManualClock) {
+                throw new IllegalStateException("no observation available at the start of a virtual-time run");
+            }
+            LockSupport.parkNanos(TimeUnit.MILLISECONDS.toNanos(1));
+        }
+        for (int i = 0; i < joints; i++) {
+            measured[i] = observation[positionIndex[i]];
+        }
+        supervisor = supervisorFactory.apply(measured.clone());
+        System.arraycopy(measured, 0, command, 0, joints);
+        running = true;
+        t0 = clock.nanoTime();
+    }
+
+    private void run() {
+        try {
+            while (true) {
+                if (settings.maxTicks() > 0 && tick >= settings.maxTicks()) {
+                    break;
+                }
+                if (shutdownRequested && atRestOrDisarmed()) {
+                    break;
+                }
+                runTick();
+            }
+        } catch (Throwable t) {
+            failure = t;
+        } finally {
+            running = false;
+        }
+    }
+
+    private boolean atRestOrDisarmed() {
+        SupervisorState s = supervisor.state();
+        if (s == SupervisorState.DISARMED || s == SupervisorState.FAULTED) {
+            return true;
+        }
+        if (shutdownDeadline < 0) {
+            shutdownDeadline = clock.nanoTime() + settings.shutdownStopTimeoutNanos();
+            supervisor.requestDisarm();
+        }
+        return clock.nanoTime() > shutdownDeadline;
+    }
+
+    /** One tick; package-visible for tests that drive the loop on their own thread. */
+    void runTick() {
+        long n = tick;
+        long deadline = t0 + n * period;
+        wait.awaitDeadline(clock, deadline);
+        long start = clock.nanoTime();
+        long lateness = start - deadline;
+
+        // 1 observation
+        long obsTime = source.latest(observation);
+        long obsAge = obsTime < 0 ? -1 : Math.max(0, start - obsTime);
+
+        handleCommand(n, deadline);
+
+        // 2 inference request on schedule
+        int every = settings.queryEveryTicks();
+        boolean due = every > 0 ? n % every == 0 : worker.idle();
+        if (obsTime >= 0 && due) {
+            worker.request(observation, n);
+            if (requestedAtNanos < 0) {
+                requestedAtNanos = start;
+            }
+        }
+
+        // 3 finished chunks
+        nonFiniteThisTick = false;
+        sink.now = n;
+        worker.drain(n, sink);
+
+        // 4 target, 5 smoothing
+        boolean planned = blender.actionAt(n, target);
+        long remaining = blender.ticksRemaining(n);
+        if (!planned) {
+            for (int i = 0; i < joints; i++) {
+                target[i] = Double.NaN;
+            }
+        } else if (smoother != null) {
+            smoother.apply(target, target);
+        }
+
+        // 7 watchdog (before the supervisor, so a fault seen at tick n shapes tick n's command)
+        long inFlight = requestedAtNanos >= 0 ? start - requestedAtNanos : 0;
+        long latency = Math.max(lastLatencyNanos, inFlight);
+        boolean portFault = port.faulted() || (telemetry != null && telemetry.faulted());
+        int code = watchdog.check(n, obsAge, (int) Math.min(remaining, Integer.MAX_VALUE), latency,
+                (int) Math.min(consecutiveOverruns, Integer.MAX_VALUE), portFault, nonFiniteThisTick,
+                operatorStopRequested);
+
+        // 6 limiter, inside the supervisor: hold when disarmed or faulted, soft start, stop
+        SupervisorState s;
+        if (planned || supervisor.state() != SupervisorState.ARMED && supervisor.state() != SupervisorState.ARMING) {
+            s = supervisor.step(n, deadline, planned ? target : command, code, command);
+        } else {
+            // no plan while moving: the watchdog reports starvation; the supervisor sees a hold target
+            s = supervisor.step(n, deadline, command, code == 0 ? Cause.NON_FINITE_TARGET : code, command);
+        }
+
+        // 8 emit (invariant 2: nothing non-finite reaches the port)
+        frame.tick = n;
+        frame.timeNanos = deadline - t0;
+        frame.state = (byte) s.ordinal();
+        frame.stopCategory = s == SupervisorState.STOPPING || s == SupervisorState.FAULTED
+                ? (stopCategory == StopCategory.CATEGORY_1 ? CommandFrame.STOP_CATEGORY_1 : CommandFrame.STOP_CATEGORY_2)
+                : CommandFrame.STOP_NONE;
+        frame.removePower = supervisor.powerRemovalRequested();
+        frame.limiterFlags = supervisor.limiterFlags();
+        boolean finite = true;
+        for (int i = 0; i < joints; i++) {
+            double q = command[i];
+            double v = supervisor.commandVelocity(i);
+            finite &= Double.isFinite(q) && Double.isFinite(v);
+            frame.positions[i] = q;
+            frame.velocities[i] = v;
+        }
+        boolean emitted = finite && port.emit(frame);
+
+        long end = clock.nanoTime();
+        long computeNanos = end - start;
+        boolean overrun = end - deadline > period;
+        if (overrun) {
+            consecutiveOverruns++;
+            overruns.lazySet(overruns.get() + 1);
+        } else {
+            consecutiveOverruns = 0;
+        }
+
+        // 9 telemetry
+        if (telemetry != null) {
+            // on virtual time there is no deadline to keep: wait for the recorder rather than lose a row
+            TelemetryRow row = virtualTime ? telemetry.claimWaiting() : telemetry.claim();
+            if (row != null) {
+                row.tick = n;
+                row.timeNanos = deadline - t0;
+                row.periodErrorNanos = lateness;
+                row.computeNanos = computeNanos;
+                row.state = s.ordinal();
+                row.watchdogMask = watchdog.activeMask();
+                row.limiterFlags = supervisor.limiterFlags();
+                row.planTicks = remaining;
+                row.chunkAgeTicks = newestOrigin < 0 ? -1 : n - newestOrigin;
+                row.emitted = emitted;
+                System.arraycopy(target, 0, row.target, 0, joints);
+                System.arraycopy(command, 0, row.command, 0, joints);
+                telemetry.publish();
+            }
+        }
+
+        periodError.recordValueWithExpectedInterval(clamp(lateness), period);
+        compute.recordValue(clamp(computeNanos));
+        state = s;
+        planTicks.lazySet(remaining);
+        watchdogMask.lazySet(watchdog.activeMask());
+        ticks.lazySet(n + 1);
+
+        // next tick: the one whose deadline passed last, never one already past by a period
+        long next = n + 1;
+        long now = clock.nanoTime();
+        long behind = (now - t0) / period;
+        if (behind > next) {
+            skipped.lazySet(skipped.get() + (behind - next));
+            next = behind;
+        }
+        tick = next;
+    }
+
+    private static long clamp(long v) {
+        return v < 0 ? 0 : Math.min(v, HISTOGRAM_MAX_NANOS);
+    }
+
+    private void handleCommand(long n, long deadline) {
+        long seq = commandSeq;
+        if (seq == handledSeq) {
+            return;
+        }
+        handledSeq = seq;
+        int result;
+        switch (commandKind) {
+            case CMD_ARM -> {
+                for (int i = 0; i < joints; i++) {
+                    measured[i] = observation[positionIndex[i]];
+                }
+                if (blender.actionAt(n, target)) {
+                    result = supervisor.arm(n, deadline, measured, target);
+                } else {
+                    result = ARM_REFUSED_NO_PLAN;
+                }
+            }
+            case CMD_DISARM -> {
+                supervisor.requestDisarm();
+                result = 0;
+            }
+            case CMD_RESET -> result = supervisor.reset(n, deadline);
+            default -> result = 0;
+        }
+        commandResult = result;
+        resultSeq = seq;
+    }
+
+    private final class Sink implements ChunkSink {
+        long now;
+
+        @Override
+        public void onChunk(double[] chunk, int steps, long originTick, long latencyNanos, int status) {
+            inferences.lazySet(inferences.get() + 1);
+            lastLatencyNanos = latencyNanos;
+            requestedAtNanos = worker.idle() ? -1 : clock.nanoTime();
+            inference.recordValue(clamp(latencyNanos));
+            if (status != OK) {
+                nonFiniteThisTick = true;
+                inferenceFailures.lazySet(inferenceFailures.get() + 1);
+                return;
+            }
+            int r = blender.accept(chunk, steps, originTick, now);
+            if (r == ChunkBlender.REJECTED_NON_FINITE) {
+                nonFiniteThisTick = true;
+            } else if (r >= 0) {
+                newestOrigin = Math.max(newestOrigin, originTick);
+            }
+        }
+    }
+
+    // ------------------------------------------------------------------ commands from other threads
+
+    /**
+     * Asks the loop to arm (soft start from the measured pose toward the plan).
+     *
+     * @return 0 when arming started; a refusal cause code ({@code dev.weft.safety.Cause},
+     *     {@link #ARM_REFUSED_NO_PLAN}); {@link #COMMAND_TIMED_OUT} or {@link #NOT_RUNNING}
+     */
+    public int arm(long timeoutNanos) {
+        return command(CMD_ARM, timeoutNanos);
+    }
+
+    /** Asks for a controlled stop to disarmed (not a fault). */
+    public int disarm(long timeoutNanos) {
+        return command(CMD_DISARM, timeoutNanos);
+    }
+
+    /** Asks to clear a latched fault; refused while the fault condition is present. */
+    public int reset(long timeoutNanos) {
+        return command(CMD_RESET, timeoutNanos);
+    }
+
+    /** Raises the operator-stop condition: a controlled stop that latches as a fault. Any thread. */
+    public void operatorStop() {
+        operatorStopRequested = true;
+    }
+
+    /** Clears the operator-stop condition, so that a later {@link #reset} can succeed. */
+    public void releaseOperatorStop() {
+        operatorStopRequested = false;
+    }
+
+    private int command(int kind, long timeoutNanos) {
+        synchronized (commandLock) {
+            if (!running) {
+                return NOT_RUNNING;
+            }
+            commandKind = kind;
+            long seq = commandSeq + 1;
+            commandSeq = seq;
+            long until = System.nanoTime() + timeoutNanos;
+            while (resultSeq != seq) {
+                if (!running) {
+                    return NOT_RUNNING;
+                }
+                if (System.nanoTime() > until) {
+                    return COMMAND_TIMED_OUT;
+                }
+                LockSupport.parkNanos(TimeUnit.MICROSECONDS.toNanos(50));
+            }
+            return commandResult;
+        }
+    }
+
+    // ------------------------------------------------------------------ lifecycle and readouts
+
+    /** True while the loop thread runs. */
+    public boolean running() {
+        return running;
+    }
+
+    /**
+     * Asks the loop to end: a moving robot is brought to a controlled stop first (up to the
+     * configured timeout), then the loop thread ends. Any thread; returns at once.
+     */
+    public void shutdown() {
+        shutdownRequested = true;
+    }
+
+    /** Waits up to {@code timeoutNanos} for the loop thread to end; true when it has. */
+    public boolean awaitEnd(long timeoutNanos) throws InterruptedException {
+        if (thread == null) {
+            return true;
+        }
+        thread.join(Math.max(1, TimeUnit.NANOSECONDS.toMillis(timeoutNanos)));
+        return !thread.isAlive();
+    }
+
+    /** What ended the loop thread abnormally, or null. */
+    public Throwable failure() {
+        return failure;
+    }
+
+    /** The supervisor (null before {@link #start}); for readouts on the loop's own terms. */
+    public Supervisor supervisor() {
+        return supervisor;
+    }
+
+    /** The current state as last published by the loop thread. */
+    public SupervisorState state() {
+        return state;
+    }
+
+    /** A snapshot of the loop's counters. Any thread. */
+    public LoopStatus status() {
+        return new LoopStatus(state.name().toLowerCase(java.util.Locale.ROOT), ticks.get(), overruns.get(),
+                skipped.get(), planTicks.get(), (int) watchdogMask.get(), blender.acceptedChunks(), blender.staleSteps(),
+                inferences.get(), inferenceFailures.get(), port.dropped(), telemetry == null ? 0 : telemetry.lost());
+    }
+
+    /** The three timing histograms, moved out of the recorders since the previous call. */
+    public record Histograms(Histogram periodError, Histogram compute, Histogram inference) {
+    }
+
+    /**
+     * Takes the values recorded since the last call, adding them into {@code into}'s histograms.
+     * Call from one reader thread; it never stops the loop.
+     */
+    public void histograms(Histograms into) {
+        into.periodError().add(periodError.getIntervalHistogram());
+        into.compute().add(compute.getIntervalHistogram());
+        into.inference().add(inference.getIntervalHistogram());
+    }
+
+    /** Empty histograms shaped like the loop's, for {@link #histograms(Histograms)}. */
+    public static Histograms newHistograms() {
+        return new Histograms(new Histogram(HISTOGRAM_MAX_NANOS, 3), new Histogram(HISTOGRAM_MAX_NANOS, 3),
+                new Histogram(HISTOGRAM_MAX_NANOS, 3));
+    }
+
+    /** Shuts down, waits for the loop thread and stops the worker; idempotent. Does not close the port. */
+    @Override
+    public void close() {
+        shutdown();
+        try {
+            awaitEnd(settings.shutdownStopTimeoutNanos() + TimeUnit.SECONDS.toNanos(5));
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+        }
+        worker.close();
+    }
+}

@@ -1,0 +1,26 @@
+package dev.weft.runtime.loop;
+
+/**
+ * How the control loop gets chunks from the policy: it hands over requests and drains finished
+ * results, and never waits. {@link InferenceWorker} runs the policy on its own thread (live runs);
+ * {@link ModelledLatencyInference} runs it in place and delivers each result a fixed number of
+ * ticks later (deterministic dry runs and tests).
+ *
+ * <p>Threading: {@link #request}, {@link #idle} and {@link #drain} from the control loop thread
+ * only.
+ */
+public interface Inference extends AutoCloseable {
+
+    /** Hands over an observation taken at {@code tick}; copies it; a newer request may replace an older one. */
+    void request(double[] observation, long tick);
+
+    /** True when a request made now would be worked on at once. */
+    boolean idle();
+
+    /** Delivers every result ready at {@code nowTick} to {@code sink}; returns how many. */
+    int drain(long nowTick, ChunkSink sink);
+
+    /** Stops; idempotent. */
+    @Override
+    void close();
+}

@@ -1,0 +1,22 @@
+package dev.weft.runtime.loop;
+
+/**
+ * A snapshot of a running loop, for status lines and the embedding API.
+ *
+ * @param state supervisor state, lower case
+ * @param ticks ticks run
+ * @param overruns ticks that ended after the next deadline
+ * @param skipped deadlines skipped because the loop was more than a period late
+ * @param planTicks ticks of plan ahead at the latest tick
+ * @param watchdogMask conditions present at the latest tick
+ * @param chunksAccepted chunks merged into the plan
+ * @param staleSteps chunk steps dropped because their time had passed
+ * @param inferences inferences finished (any status)
+ * @param inferenceFailures inferences that threw or returned non-finite values
+ * @param portDropped frames the port dropped
+ * @param telemetryLost telemetry rows that could not be recorded
+ */
+public record LoopStatus(String state, long ticks, long overruns, long skipped, long planTicks, int watchdogMask,
+                         long chunksAccepted, long staleSteps, long inferences, long inferenceFailures,
+                         long portDropped, long telemetryLost) {
+}

@@ -1,0 +1,132 @@
+package dev.weft.runtime.loop;
+
+import dev.weft.runtime.policy.Policy;
+
+/**
+ * Runs the policy in place, on the calling thread, and delivers each result exactly
+ * {@code latencyTicks} ticks after its request: inference latency modelled as a whole number of
+ * ticks, so that a run on a virtual clock is deterministic (the same inputs give the same
+ * commands). While a result is in flight the model is busy, as a single worker would be; a
+ * request made while busy replaces the waiting one (newest wins) and is started when the
+ * current one is delivered.
+ *
+ * <p>For dry runs and tests: the policy's own allocation and time are spent on the loop thread.
+ *
+ * <p>Threading: the control loop thread only.
+ */
+public final class ModelledLatencyInference implements Inference {
+
+    private final Policy policy;
+    private final long latencyTicks;
+    private final long periodNanos;
+    private final double[] chunk;
+    private final double[] waitingObservation;
+    private long waitingTick = -1;
+    private boolean inFlight;
+    private long readyTick;
+    private long originTick;
+    private int status;
+    private long completed;
+    private long failed;
+    private long replaced;
+    private String lastFailure;
+
+    /**
+     * @param latencyTicks ticks from request to delivery, ≥ 0 (0 = delivered in the same tick)
+     * @param periodNanos the control period, to report latency in nanoseconds
+     */
+    public ModelledLatencyInference(Policy policy, long latencyTicks, long periodNanos) {
+        if (latencyTicks < 0) {
+            throw new IllegalArgumentException("latency must be >= 0 ticks, got " + latencyTicks);
+        }
+        this.policy = policy;
+        this.latencyTicks = latencyTicks;
+        this.periodNanos = periodNanos;
+        this.chunk = new double[policy.chunkLength() * policy.actionSize()];
+        this.waitingObservation = new double[policy.observationSize()];
+    }
+
+    @Override
+    public void request(double[] observation, long tick) {
+        if (inFlight) {
+            if (waitingTick >= 0) {
+                replaced++;
+            }
+            System.arraycopy(observation, 0, waitingObservation, 0, waitingObservation.length);
+            waitingTick = tick;
+            return;
+        }
+        compute(observation, tick, tick);
+    }
+
+    private void compute(double[] observation, long tick, long startTick) {
+        originTick = tick;
+        try {
+            policy.infer(observation, tick, chunk);
+            status = ChunkSink.OK;
+            for (double v : chunk) {
+                if (!Double.isFinite(v)) {
+                    status = ChunkSink.NON_FINITE;
+                    break;
+                }
+            }
+        } catch (RuntimeException e) {
+            status = ChunkSink.FAILED;
+            lastFailure = e.toString();
+        }
+        inFlight = true;
+        readyTick = startTick + latencyTicks;
+    }
+
+    @Override
+    public boolean idle() {
+        return !inFlight;
+    }
+
+    @Override
+    public int drain(long nowTick, ChunkSink sink) {
+        int delivered = 0;
+        while (inFlight && readyTick <= nowTick) {
+            inFlight = false;
+            if (status == ChunkSink.OK) {
+                completed++;
+            } else {
+                failed++;
+            }
+            long started = readyTick - latencyTicks;
+            sink.onChunk(chunk, policy.chunkLength(), originTick, (readyTick - started) * periodNanos, status);
+            delivered++;
+            if (waitingTick >= 0) {
+                long t = waitingTick;
+                waitingTick = -1;
+                compute(waitingObservation, t, readyTick);
+            }
+        }
+        return delivered;
+    }
+
+    /** Results delivered with a usable chunk. */
+    public long completed() {
+        return completed;
+    }
+
+    /** Results delivered that failed or were non-finite. */
+    public long failed() {
+        return failed;
+    }
+
+    /** Requests replaced while waiting. */
+    public long replaced() {
+        return replaced;
+    }
+
+    /** The latest policy failure as text, or null. */
+    public String lastFailure() {
+        return lastFailure;
+    }
+
+    @Override
+    public void close() {
+        // nothing runs on its own
+    }
+}

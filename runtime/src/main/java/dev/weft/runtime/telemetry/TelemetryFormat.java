@@ -1,0 +1,71 @@
+package dev.weft.runtime.telemetry;
+
+import dev.weft.safety.SupervisorState;
+import java.util.List;
+
+/**
+ * The telemetry CSV layout: one header line, then one line per control tick.
+ *
+ * <pre>
+ * tick,time_s,period_error_us,compute_us,state,watchdog,limiter,plan_ticks,chunk_age_ticks,emitted,
+ *   target.&lt;joint&gt;…,command.&lt;joint&gt;…
+ * </pre>
+ *
+ * {@code state} is the supervisor state's name in lower case, {@code watchdog} the bit mask of the
+ * conditions present (bit {@code code − 1}), {@code limiter} the or-ed limiter flags, {@code emitted}
+ * 1 when the port accepted the frame. Values are written in Java's shortest round-trip form.
+ */
+public final class TelemetryFormat implements CsvRecorder.Format<TelemetryRow> {
+
+    private static final String[] STATE_NAMES;
+
+    static {
+        SupervisorState[] states = SupervisorState.values();
+        STATE_NAMES = new String[states.length];
+        for (int i = 0; i < states.length; i++) {
+            STATE_NAMES[i] = states[i].name().toLowerCase(java.util.Locale.ROOT);
+        }
+    }
+
+    private final List<String> joints;
+
+    public TelemetryFormat(List<String> jointNames) {
+        this.joints = List.copyOf(jointNames);
+    }
+
+    /** The state name used in the file for a supervisor state ordinal. */
+    public static String stateName(int ordinal) {
+        return STATE_NAMES[ordinal];
+    }
+
+    @Override
+    public void header(StringBuilder out) {
+        out.append("tick,time_s,period_error_us,compute_us,state,watchdog,limiter,plan_ticks,chunk_age_ticks,emitted");
+        for (String j : joints) {
+            out.append(",target.").append(j);
+        }
+        for (String j : joints) {
+            out.append(",command.").append(j);
+        }
+    }
+
+    @Override
+    public void row(TelemetryRow r, StringBuilder out) {
+        out.append(r.tick).append(',');
+        out.append(r.timeNanos / 1e9).append(',');
+        out.append(r.periodErrorNanos / 1e3).append(',');
+        out.append(r.computeNanos / 1e3).append(',');
+        out.append(STATE_NAMES[r.state]).append(',');
+        out.append(r.watchdogMask).append(',');
+        out.append(r.limiterFlags).append(',');
+        out.append(r.planTicks).append(',');
+        out.append(r.chunkAgeTicks).append(',');
+        out.append(r.emitted ? '1' : '0');
+        for (double v : r.target) {
+            out.append(',').append(v);
+        }
+        for (double v : r.command) {
+            out.append(',').append(v);
+        }
+    }
+}
