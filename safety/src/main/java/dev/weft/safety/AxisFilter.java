@@ -9,7 +9,8 @@ package dev.weft.safety;
  * the position sample at the end of the tick. Within a tick the jerk is a blend
  * {@code (1 - lambda) * brake(t) + lambda * dir * J} of the time-optimal stopping profile of the
  * current state and a full jerk toward the target; {@code lambda} is the largest value in [0, 1]
- * whose successor state still satisfies every bound and can still stop without passing the target.
+ * whose successor state still satisfies every bound and, seen from the target moving on at its
+ * last rate, can still come to rest without passing it.
  *
  * <p>All fields are scratch or state owned by the single control thread. No method allocates.
  */
@@ -104,6 +105,13 @@ final class AxisFilter {
         a = a0;
         havePrevious = false;
         targetRate = 0.0;
+    }
+
+    /** Takes over the target-rate estimate of another axis (after {@link #set}, when switching limits). */
+    void copyTracking(AxisFilter o) {
+        previousWall = o.previousWall;
+        havePrevious = o.havePrevious;
+        targetRate = o.targetRate;
     }
 
     /**

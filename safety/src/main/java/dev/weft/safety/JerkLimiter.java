@@ -23,6 +23,13 @@ package dev.weft.safety;
  * inside the position range with a speed inside its bound. The stop itself is always admissible,
  * so a valid choice always exists.
  *
+ * <p>A plan is a moving target. As in the trajectory filters, which act on the tracking error and
+ * its derivatives, the target condition is taken in the frame of the target moving on at its last
+ * rate (the finite difference of the last two targets, clamped to the velocity bound): the
+ * successor must come to rest in that frame at or before the target. For a constant target this is
+ * the double-S law above; a ramp is followed without lag once matched. The bound checks always use
+ * the absolute stop, so the target's rate never loosens a bound.
+ *
  * <h2>What was changed for the discrete-time bounds</h2>
  * <ul>
  *   <li>The published filters bound the continuous derivatives. The emitted command is a sample of
@@ -210,6 +217,7 @@ public final class JerkLimiter {
             AxisFilter o = other.axes[i];
             ok &= axes[i].viable(o.q, o.v, o.a);
             axes[i].set(o.q, o.v, o.a);
+            axes[i].copyTracking(o);
         }
         return ok;
     }

@@ -57,6 +57,7 @@ public final class Supervisor {
     private long armingTicks;
     private int lastFlags;
     private int refusedJoint = -1;
+    private JerkLimiter active;
 
     private Supervisor(Builder b, double[] initialPose) {
         this.main = JerkLimiter.create(b.limits, b.period);
@@ -78,6 +79,7 @@ public final class Supervisor {
                         + b.limits.operatingMax(i) + "]");
             }
         }
+        this.active = main;
         if (!main.reset(initialPose)) {
             throw new IllegalArgumentException("supervisor: initial pose not accepted by the limiter");
         }
@@ -120,7 +122,7 @@ public final class Supervisor {
 
     /** Limiter flags of one joint at the last {@link #step}. */
     public int limiterFlags(int joint) {
-        return (state == SupervisorState.ARMING ? soft : main).flags(joint);
+        return active.flags(joint);
     }
 
     /** Joint named by the last refused {@link #arm}, or -1. */
@@ -130,12 +132,12 @@ public final class Supervisor {
 
     /** Velocity of the commanded trajectory of a joint at the last tick. */
     public double commandVelocity(int joint) {
-        return (state == SupervisorState.ARMING ? soft : main).velocity(joint);
+        return active.velocity(joint);
     }
 
     /** Acceleration of the commanded trajectory of a joint at the last tick. */
     public double commandAcceleration(int joint) {
-        return (state == SupervisorState.ARMING ? soft : main).acceleration(joint);
+        return active.acceleration(joint);
     }
 
     /**
@@ -244,6 +246,7 @@ public final class Supervisor {
                 if (fault != 0 || disarmRequested) {
                     startStop(tick, timeNanos, fault != 0 ? fault : Cause.DISARM_REQUEST, command, true);
                 } else {
+                    active = soft;
                     lastFlags = soft.apply(target, command);
                     armingTicks++;
                     if ((lastFlags & JerkLimiter.FAULT_FLAGS) != 0) {
@@ -263,6 +266,7 @@ public final class Supervisor {
                 if (fault != 0 || disarmRequested) {
                     startStop(tick, timeNanos, fault != 0 ? fault : Cause.DISARM_REQUEST, command, false);
                 } else {
+                    active = main;
                     lastFlags = main.apply(target, command);
                     if ((lastFlags & JerkLimiter.FAULT_FLAGS) != 0) {
                         startStopNextTick(tick, timeNanos, Cause.LIMITER_FAULT, false);
@@ -275,12 +279,14 @@ public final class Supervisor {
                     latchedCause = fault;
                     listener.onTransition(tick, timeNanos, state, state, fault);
                 }
+                active = main;
                 lastFlags = main.brake(command);
                 finishStopIfAtRest(tick, timeNanos);
                 break;
             case DISARMED:
             case FAULTED:
             default:
+                active = main;
                 lastFlags = main.brake(command);
                 break;
         }
@@ -299,6 +305,7 @@ public final class Supervisor {
     /** Starts the stop in this tick: the command written is the first step of the stop. */
     private void startStop(long tick, long timeNanos, int cause, double[] command, boolean fromArming) {
         boolean viable = !fromArming || main.resetFrom(soft);
+        active = main;
         enterStopping(tick, timeNanos, cause);
         lastFlags = main.brake(command) | (viable ? 0 : JerkLimiter.NOT_VIABLE);
         finishStopIfAtRest(tick, timeNanos);

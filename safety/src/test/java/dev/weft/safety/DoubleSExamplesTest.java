@@ -92,6 +92,53 @@ class DoubleSExamplesTest {
         }
     }
 
+    @Test
+    void example39PhasesAreTheBookPolynomials() {
+        // Least-squares polynomial fits with EJML (general-purpose reference library) over the
+        // emitted samples of Example 3.9: the first jerk phase is q = v0 t + jmax t^3 / 6, the
+        // cruise phase is a line of slope vmax (the phase shapes of the double-S, Biagiotti and
+        // Melchiorri 2008, Section 3.4).
+        Run r = run(10, 1, 5, 10, 30);
+        double[] cubic = fit(r.samples, 0, 330, 3);
+        assertThat(cubic[0]).isCloseTo(0, within(1e-9));
+        assertThat(cubic[1]).isCloseTo(1, within(1e-7));
+        assertThat(cubic[2]).isCloseTo(0, within(1e-6));
+        // The limiter plans with the jerk bound less its rounding margin (16 ulp(50) / dt^3, about 1e-4 here).
+        assertThat(cubic[3]).isCloseTo(30.0 / 6.0, within(3e-5));
+        DoubleS d = DoubleS.plan(0, 10, 1, 0, 5, 10, 30);
+        int from = (int) Math.ceil(d.ta / DT) + 5;
+        int to = (int) Math.floor((d.ta + d.tv) / DT) - 5;
+        double[] line = fit(r.samples, from, to, 1);
+        // cruise sits a few parts per million under vmax (bisection resolution and rounding margin)
+        assertThat(line[1]).isCloseTo(5, within(5e-5));
+    }
+
+    /** Coefficients c0..c_degree of the least-squares polynomial in t = k * DT over samples[from..to]. */
+    private static double[] fit(double[] samples, int from, int to, int degree) {
+        int n = to - from + 1;
+        org.ejml.data.DMatrixRMaj design = new org.ejml.data.DMatrixRMaj(n, degree + 1);
+        org.ejml.data.DMatrixRMaj y = new org.ejml.data.DMatrixRMaj(n, 1);
+        for (int i = 0; i < n; i++) {
+            double t = (from + i) * DT;
+            double p = 1;
+            for (int c = 0; c <= degree; c++) {
+                design.set(i, c, p);
+                p *= t;
+            }
+            y.set(i, 0, samples[from + i]);
+        }
+        org.ejml.data.DMatrixRMaj x = new org.ejml.data.DMatrixRMaj(degree + 1, 1);
+        org.ejml.interfaces.linsol.LinearSolverDense<org.ejml.data.DMatrixRMaj> solver =
+                org.ejml.dense.row.factory.LinearSolverFactory_DDRM.leastSquaresQrPivot(true, false);
+        assertThat(solver.setA(design)).isTrue();
+        solver.solve(y, x);
+        double[] out = new double[degree + 1];
+        for (int c = 0; c <= degree; c++) {
+            out[c] = x.get(c, 0);
+        }
+        return out;
+    }
+
     /**
      * Two bounds no admissible profile can beat: the distance covered at vmax throughout, and the
      * time needed to remove the initial velocity from zero acceleration at full deceleration (the
@@ -107,6 +154,7 @@ class DoubleSExamplesTest {
         double firstAtVmax = Double.NaN;
         double lastAtVmax = Double.NaN;
         double peakAcceleration;
+        final double[] samples = new double[10_001];
     }
 
     private static Run run(double q1, double v0, double vmax, double amax, double jmax) {
@@ -118,12 +166,14 @@ class DoubleSExamplesTest {
         double[] target = {q1};
         double[] command = new double[1];
         Run r = new Run();
+        r.samples[0] = 0;
         double prevQ = 0;
         double prevV = v0;
         double maxQ = Double.NEGATIVE_INFINITY;
         for (int k = 1; k <= 10_000; k++) {
             limiter.apply(target, command);
             checker.accept(k, command);
+            r.samples[k] = command[0];
             double v = (command[0] - prevQ) / DT;
             double a = (v - prevV) / DT;
             r.peakAcceleration = Math.max(r.peakAcceleration, a);

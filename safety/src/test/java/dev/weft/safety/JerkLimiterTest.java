@@ -4,7 +4,6 @@ import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.assertThatThrownBy;
 import static org.assertj.core.api.Assertions.within;
 
-import java.lang.management.ManagementFactory;
 import java.util.SplittableRandom;
 import org.junit.jupiter.api.Test;
 
@@ -213,18 +212,16 @@ class JerkLimiterTest {
             l.apply(target, cmd);
             l.brake(cmd);
         }
-        com.sun.management.ThreadMXBean mx = (com.sun.management.ThreadMXBean) ManagementFactory.getThreadMXBean();
-        long tid = Thread.currentThread().getId();
-        long before = mx.getThreadAllocatedBytes(tid);
-        for (int k = 0; k < 100_000; k++) {
-            target[0] = noise[k & 4095];
-            target[1] = noise[(k * 7) & 4095];
-            l.apply(target, cmd);
-            if ((k & 15) == 0) {
-                l.brake(cmd);
+        long bytes = AllocationMeter.leastBytes(() -> {
+            for (int k = 0; k < 100_000; k++) {
+                target[0] = noise[k & 4095];
+                target[1] = noise[(k * 7) & 4095];
+                l.apply(target, cmd);
+                if ((k & 15) == 0) {
+                    l.brake(cmd);
+                }
             }
-        }
-        long after = mx.getThreadAllocatedBytes(tid);
-        assertThat(after - before).as("bytes allocated by 100k ticks").isZero();
+        });
+        assertThat(bytes).as("bytes allocated by 100k ticks").isZero();
     }
 }

@@ -3,7 +3,6 @@ package dev.weft.safety;
 import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
-import java.lang.management.ManagementFactory;
 import org.junit.jupiter.api.Test;
 
 class SupervisorTest {
@@ -277,23 +276,32 @@ class SupervisorTest {
     @Test
     void tickPathAllocatesNothing() {
         double[] pose = {0.3, -0.2};
-        Rig r = new Rig(StopCategory.CATEGORY_2, pose);
-        r.armAndRunUntilArmed(pose);
-        for (int k = 0; k < 20_000; k++) {
-            r.step(0);
+        Rig[] rigs = new Rig[3];
+        for (int i = 0; i < rigs.length; i++) {
+            rigs[i] = new Rig(StopCategory.CATEGORY_2, pose);
+            rigs[i].armAndRunUntilArmed(pose);
+            for (int k = 0; k < 20_000; k++) {
+                rigs[i].step(k == 10_000 ? 1 : 0);
+            }
+            rigs[i].sup.step(rigs[i].tick, 0, rigs[i].target, 0, rigs[i].cmd);
+            rigs[i].sup.reset(rigs[i].tick, 0);
+            rigs[i].armAndRunUntilArmed(rigs[i].cmd.clone());
         }
-        com.sun.management.ThreadMXBean mx = (com.sun.management.ThreadMXBean) ManagementFactory.getThreadMXBean();
-        long tid = Thread.currentThread().getId();
         double[] target = new double[2];
         double[] cmd = new double[2];
-        long before = mx.getThreadAllocatedBytes(tid);
-        for (long k = 100_000; k < 150_000; k++) {
-            plan(k, target);
-            r.sup.step(k, k, target, k == 140_000 ? 5 : 0, cmd);
+        int[] round = {0};
+        // armed ticks, then a fault, the whole stop, and latched hold ticks: one rig per round
+        long bytes = AllocationMeter.leastBytes(() -> {
+            Supervisor sup = rigs[round[0]++].sup;
+            for (long k = 100_000; k < 110_000; k++) {
+                plan(k, target);
+                sup.step(k, k, target, k == 105_000 ? 5 : 0, cmd);
+            }
+        });
+        assertThat(bytes).isZero();
+        for (Rig r : rigs) {
+            assertThat(r.sup.state()).isEqualTo(SupervisorState.FAULTED);
         }
-        long after = mx.getThreadAllocatedBytes(tid);
-        assertThat(after - before).isZero();
-        assertThat(r.sup.state()).isEqualTo(SupervisorState.FAULTED);
     }
 
     @Test
