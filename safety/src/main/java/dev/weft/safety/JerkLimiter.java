@@ -77,7 +77,7 @@ public final class JerkLimiter {
     public static final int FAULT_FLAGS = NON_FINITE_TARGET | NOT_VIABLE | POSITION_CLAMPED;
 
     /** Largest share of a bound the floating-point margin may take before {@link #create} refuses it. */
-    static final double MAX_MARGIN_SHARE = 1e-3;
+    static final double MAX_MARGIN_SHARE = 1e-2;
 
     private final JointLimits limits;
     private final double dt;
@@ -121,9 +121,13 @@ public final class JerkLimiter {
             double vMax = limits.velocity(i);
             double aMax = limits.acceleration(i);
             double jMax = limits.jerk(i);
-            double vMargin = 4.0 * u / dt;
-            double aMargin = 8.0 * u / (dt * dt);
-            double jMargin = 16.0 * u / (dt * dt * dt) + 16.0 * eps * (vMax / (dt * dt) + aMax / dt);
+            // A position rounded to the nearest double is off by at most u / 2. As each command is the
+            // previous command plus an increment, these errors do not accumulate, and the k-th finite
+            // difference is off by at most 2^(k-2) u / dt^k from the computed trajectory. The margins
+            // are four times that, plus the relative rounding of the increments themselves.
+            double vMargin = 2.0 * u / dt + 16.0 * eps * vMax;
+            double aMargin = 4.0 * u / (dt * dt) + 16.0 * eps * (vMax / dt + aMax);
+            double jMargin = 8.0 * u / (dt * dt * dt) + 16.0 * eps * (vMax / (dt * dt) + aMax / dt);
             String at = JointLimits.where(i, limits.name(i));
             requireResolvable(at, "velocity bound", vMax, vMargin, dt, mag);
             requireResolvable(at, "acceleration bound", aMax, aMargin, dt, mag);

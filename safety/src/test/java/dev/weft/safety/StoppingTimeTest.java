@@ -58,4 +58,30 @@ class StoppingTimeTest {
         assertThat(withAcceleration).isGreaterThan(500);
         System.out.println("stopping time: " + totalTicks + " braking ticks over 2000 states");
     }
+    @Test
+    void stoppingDistanceFromZeroAccelerationIsTheBookDecelerationSegment() {
+        // A double-S deceleration segment from v to rest covers (v + 0) / 2 * Td (Biagiotti and
+        // Melchiorri 2008, Section 3.4: the profile is symmetric in time about its midpoint).
+        SplittableRandom rng = new SplittableRandom(13);
+        for (int trial = 0; trial < 500; trial++) {
+            double vmax = 0.2 + rng.nextDouble() * 5;
+            double amax = 0.5 + rng.nextDouble() * 20;
+            double jmax = 5 + rng.nextDouble() * 500;
+            JointLimits limits = JointLimits.builder().joint("x", -100, 100, vmax, amax, jmax).build();
+            JerkLimiter l = JerkLimiter.create(limits, 1e-3);
+            double v = (rng.nextDouble() * 2 - 1) * vmax * 0.99;
+            assertThat(l.reset(new double[] {0}, new double[] {v}, new double[] {0})).isTrue();
+            double expected = v / 2 * StopTimes.fromRestAcceleration(v, amax, jmax);
+            double predicted = l.restPosition(0);
+            // The limiter plans with each bound lowered by its rounding margin (here at most 5e-5 of the
+            // jerk bound), which moves the stopping point by a similar share.
+            assertThat(predicted).isCloseTo(expected, within(1e-4 * Math.max(1, Math.abs(expected))));
+            double[] cmd = new double[1];
+            while (!l.atRest()) {
+                l.brake(cmd);
+            }
+            // the emitted stop ends where the limiter predicted
+            assertThat(cmd[0]).isCloseTo(predicted, within(1e-9 * Math.max(1, Math.abs(expected))));
+        }
+    }
 }
