@@ -193,6 +193,8 @@ class DoubleSExamplesTest {
         assertThat(checker.violations).as(checker.firstViolation).isZero();
         assertThat(maxQ).as("overshoot").isLessThanOrEqualTo(q1 + 1e-12);
         assertThat(r.arrivalSeconds).isNotNaN();
+        System.out.printf("double-S run: q1=%s v0=%s vmax=%s amax=%s jmax=%s arrives at %.3f s%n",
+                q1, v0, vmax, amax, jmax, r.arrivalSeconds);
         return r;
     }
 }

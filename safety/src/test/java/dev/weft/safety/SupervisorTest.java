@@ -162,6 +162,43 @@ class SupervisorTest {
     }
 
     @Test
+    void faultsAtRandomTicksStopAtThatTickAndWithinTheMinimumStoppingTime() {
+        java.util.SplittableRandom rng = new java.util.SplittableRandom(21);
+        for (int trial = 0; trial < 100; trial++) {
+            double[] pose = {0.3, -0.2};
+            Rig r = new Rig(StopCategory.CATEGORY_2, pose);
+            r.armAndRunUntilArmed(pose);
+            double f0 = 0.5 + 4 * rng.nextDouble();
+            double f1 = 0.5 + 4 * rng.nextDouble();
+            int faultAfter = 1 + rng.nextInt(3000);
+            for (int k = 0; k < faultAfter; k++) {
+                r.tick++;
+                double t = r.tick * DT;
+                r.target[0] = 0.9 * Math.sin(f0 * t);
+                r.target[1] = 1.2 * Math.sin(f1 * t + 1);
+                r.sup.step(r.tick, r.tick * NS, r.target, 0, r.cmd);
+                r.checker.accept(r.tick, r.cmd);
+            }
+            double tmin = Math.max(StopTimes.minimum(r.sup.commandVelocity(0), r.sup.commandAcceleration(0), 5.0, 50.0),
+                    StopTimes.minimum(r.sup.commandVelocity(1), r.sup.commandAcceleration(1), 8.0, 80.0));
+            int code = 1 + rng.nextInt(8);
+            int before = r.log.size();
+            long n = r.tick + 1;
+            r.step(code);
+            assertThat(r.log.tick(before)).isEqualTo(n);
+            assertThat(r.log.cause(before)).isEqualTo(code);
+            long ticks = 1;
+            while (r.sup.state() == SupervisorState.STOPPING) {
+                r.step(0);
+                ticks++;
+            }
+            assertThat(r.sup.state()).isEqualTo(SupervisorState.FAULTED);
+            assertThat(ticks * DT).as("trial %d", trial).isLessThanOrEqualTo(tmin + 2 * DT);
+            assertThat(r.checker.violations).as(r.checker.firstViolation).isZero();
+        }
+    }
+
+    @Test
     void resetOnlyWhenFaultedAndTheConditionHasCleared() {
         double[] pose = {0.3, -0.2};
         Rig r = new Rig(StopCategory.CATEGORY_2, pose);
