@@ -168,6 +168,24 @@ public final class ControlLoop implements AutoCloseable {
         this.target = new double[joints];
         this.command = new double[joints];
         this.frame = new CommandFrame(joints);
+        primeRecorders();
+    }
+
+    /**
+     * Records values across the whole range once, then discards them: every branch of the
+     * histograms' recording code has been taken before the loop runs, so the compiler does not
+     * meet a first-time branch (and deoptimise, with a pause) in the middle of a live run.
+     */
+    private void primeRecorders() {
+        for (SingleWriterRecorder r : new SingleWriterRecorder[] {periodError, compute, inference}) {
+            for (long v = 1; v > 0 && v <= HISTOGRAM_MAX_NANOS; v = v * 3 + 1) {
+                r.recordValue(v);
+                r.recordValueWithExpectedInterval(v, period);
+            }
+            r.recordValue(0);
+            r.recordValue(HISTOGRAM_MAX_NANOS);
+            r.getIntervalHistogram();
+        }
     }
 
     /**

@@ -62,9 +62,14 @@ final class LoopFixture {
     }
 
     ControlLoop build(Policy policy) throws IOException {
+        return buildWithPeriod(policy, PERIOD_NANOS);
+    }
+
+    ControlLoop buildWithPeriod(Policy policy, long periodNanos) throws IOException {
+        double period = periodNanos / 1e9;
         if (port == null) {
             SimPort sim = new SimPort(8.0, 0.9, false, 0.0, 1);
-            plant = sim.attach(new double[joints], PERIOD);
+            plant = sim.attach(new double[joints], period);
             port = sim;
         }
         if (source == null) {
@@ -81,7 +86,7 @@ final class LoopFixture {
         ChunkBlender blender = TemporalEnsembleBlender.oldestFirst(joints, policy.chunkLength(), 1.0,
                 Interpolation.LINEAR, 0.01);
         if (latencyTicks >= 0) {
-            worker = new ModelledLatencyInference(policy, latencyTicks, PERIOD_NANOS);
+            worker = new ModelledLatencyInference(policy, latencyTicks, periodNanos);
         } else {
             InferenceWorker w = new InferenceWorker(policy, clock, 64, "test-inference");
             w.start();
@@ -93,10 +98,10 @@ final class LoopFixture {
         }
         port.open(joints);
         JointLimits limits = limits();
-        LoopSettings settings = new LoopSettings(PERIOD_NANOS, queryEvery, LoopSettings.leadingPositions(joints), maxTicks,
+        LoopSettings settings = new LoopSettings(periodNanos, queryEvery, LoopSettings.leadingPositions(joints), maxTicks,
                 2_000_000_000L, 2_000_000_000L);
         return new ControlLoop(clock, wait, settings, source, worker, blender, null, watchdog,
-                pose -> Supervisor.builder(limits, PERIOD).maxArmingOffset(range).listener(transitions).build(pose),
+                pose -> Supervisor.builder(limits, period).maxArmingOffset(range).listener(transitions).build(pose),
                 StopCategory.CATEGORY_2, port, telemetry);
     }
 
