@@ -136,8 +136,8 @@ public final class UdpCommandPort implements CommandPort {
             if (bind == null) {
                 options.problem("bind", "must be a literal IP address such as 127.0.0.1, got \"" + bindText + "\"");
             } else if (host != null && (bind instanceof Inet4Address) != (host instanceof Inet4Address)) {
-                options.problem("bind", "is " + bind.getHostAddress() + " but host is " + host.getHostAddress()
-                        + ": both must be IPv4 or both IPv6");
+                options.problem("bind", "is \"" + bindText + "\", an " + family(bind) + " address, but host \"" + hostText
+                        + "\" is " + family(host) + ": both must be of the same family");
             }
         }
         int queue = options.integer("queue", 64, 2, 65_536);
@@ -148,6 +148,10 @@ public final class UdpCommandPort implements CommandPort {
         int drainMillis = options.integer("drainMillis", 100, 0, 10_000);
         options.finish();
         return new UdpCommandPort(host, port, bind, queue, faultAfter, drainMillis, options.where("host"));
+    }
+
+    private static String family(InetAddress a) {
+        return a instanceof Inet4Address ? "IPv4" : "IPv6";
     }
 
     /**

@@ -119,7 +119,7 @@ public final class UdpStateReceiver implements ObservationSource {
         SourceAllowlist allow = SourceAllowlist.read(options, "allow");
         if (bind != null && !allow.entries().isEmpty() && !allow.hasFamily(bind.getAddress().length)) {
             options.problem("allow", "has no " + (bind instanceof Inet4Address ? "IPv4" : "IPv6")
-                    + " entry, but bind is " + bind.getHostAddress() + ": every datagram would be rejected");
+                    + " entry, but bind is \"" + bindText + "\": every datagram would be rejected");
         }
         if (!options.has("size")) {
             options.problem("size", "is required");
