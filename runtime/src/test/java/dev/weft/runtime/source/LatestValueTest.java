@@ -55,6 +55,7 @@ class LatestValueTest {
     void concurrentReadsAreNeverTorn() throws InterruptedException {
         int size = 32;
         int reads = 4_000_000;
+        int races = 100_000;
         LatestValue v = new LatestValue(size);
         AtomicBoolean stop = new AtomicBoolean();
         Thread writer = new Thread(() -> {
@@ -73,7 +74,11 @@ class LatestValueTest {
             long[] tag = new long[1];
             long last = -1;
             long changes = 0;
-            for (int i = 0; i < reads && failure.get() == null; i++) {
+            long deadline = System.nanoTime() + 30_000_000_000L;
+            // At least `reads` reads and `races` observed changes (the writer must really have run
+            // alongside), bounded by the deadline in case the cores are busy elsewhere.
+            for (long i = 0; (i < reads || changes < races) && failure.get() == null
+                    && ((i & 0xFFFF) != 0 || System.nanoTime() < deadline); i++) {
                 long time = v.read(out, tag);
                 if (time == -1) {
                     continue;
@@ -98,13 +103,16 @@ class LatestValueTest {
             seen[1] = last;
         }, "latest-value-reader");
         writer.start();
+        while (v.published() == 0 && writer.isAlive()) {
+            Thread.onSpinWait();
+        }
         reader.start();
         reader.join(50_000);
         stop.set(true);
         writer.join(5_000);
         assertThat(reader.isAlive()).isFalse();
         assertThat(failure.get()).isNull();
-        assertThat(seen[0]).as("distinct observations the reader saw (the writer must have raced it)").isGreaterThan(1_000);
+        assertThat(seen[0]).as("distinct observations the reader saw (the writer must have raced it)").isGreaterThanOrEqualTo(races);
         assertThat(v.published()).isGreaterThanOrEqualTo(seen[1]);
     }
 
