@@ -29,7 +29,7 @@ final class Loopback {
     static InetAddress address(String literal) {
         InetAddress a = SourceAllowlist.literal(literal);
         if (a == null || !a.isLoopbackAddress()) {
-            throw new IllegalArgumentException("tests talk to loopback only, got " + literal);
+            throw new IllegalArgumentException("tests use loopback addresses only, got " + literal);
         }
         return a;
     }

@@ -92,9 +92,13 @@ class UdpCommandPortTest {
         }
 
         @Override
-        public void close() throws Exception {
+        public void close() throws IOException {
             channel.close();
-            thread.join(2_000);
+            try {
+                thread.join(2_000);
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+            }
         }
     }
 
