@@ -233,7 +233,8 @@ class UdpCommandPortTest {
                 }
                 long senderBytes = Loopback.allocated(sender) - senderBefore;
                 if (round > 0) {
-                    // Measured on JDK 17: 0 bytes on both threads; the bounds are far below one byte per frame.
+                    // Measured on JDK 17 and 25: 0 bytes on both threads (128 on the sender in an occasional run);
+                    // the bounds are far below one byte per frame.
                     assertThat(loopBytes).as("loop thread bytes for 5,000 emits, round %d", round).isLessThan(1_024);
                     assertThat(senderBytes).as("sender thread bytes for 5,000 sends, round %d", round).isLessThan(1_024);
                     System.out.printf("udp command port: %d bytes on the loop thread, %d on the sender thread, 5000 frames%n",
