@@ -32,7 +32,14 @@ import org.yaml.snakeyaml.error.MarkedYAMLException;
  */
 final class YamlTree {
 
-    private static final YAMLFactory FACTORY = YAMLFactory.builder().build();
+    /**
+     * An empty plain value ({@code jerk:}) reads as null, so it is reported rather than taken as text;
+     * the YAML 1.1 words yes, no, on and off stay text, so only true and false are booleans.
+     */
+    private static final YAMLFactory FACTORY = YAMLFactory.builder()
+            .enable(YAMLParser.Feature.EMPTY_STRING_AS_NULL)
+            .enable(YAMLParser.Feature.PARSE_BOOLEAN_LIKE_WORDS_AS_STRINGS)
+            .build();
     private static final JsonNodeFactory NODES = JsonNodeFactory.instance;
 
     private final String sourceName;
