@@ -1,0 +1,673 @@
+package dev.weft.runtime.config;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import dev.weft.filters.Interpolation;
+import dev.weft.runtime.BadInputException;
+import dev.weft.runtime.config.TreeReader.Section;
+import dev.weft.runtime.policy.ChunkLayout;
+import dev.weft.runtime.policy.InputBinding;
+import dev.weft.runtime.policy.OutputSpec;
+import dev.weft.runtime.policy.PolicySpec;
+import dev.weft.runtime.policy.SessionSettings;
+import java.math.BigDecimal;
+import java.math.MathContext;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Collections;
+import java.util.HashMap;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.Optional;
+
+/**
+ * The schema: walks the tree section by section, checks every key and the rules between keys, and
+ * builds a {@link WeftConfig} only when nothing is wrong. A section with a problem yields null, and
+ * the checks that need it are skipped, so one mistake is reported once rather than again by every
+ * rule that depends on it.
+ */
+final class ConfigParser {
+
+    /** Relative slack on comparisons of products of configured times (0.1 × 3 is not exactly 0.3). */
+    private static final double TIME_SLACK = 1e-9;
+
+    private final TreeReader r;
+    private final Path baseDir;
+
+    // Single values the rules between sections need, each set as soon as it reads correctly (null
+    // until then), so that a rule is checked even when another key of the same section is wrong.
+    private Integer jointCount;
+    private Double controlPeriod;
+    private Double policyStep;
+    private TimingConfig.QuerySchedule schedule;
+    private Integer everyTicks;
+    private Integer chunkLength;
+    private BlendingConfig.Method blendMethod;
+    private Integer executedSteps;
+    private Double butterworthCutoff;
+    private Double observationAgeMax;
+    private Double planRemainingMin;
+    private Double inferenceLatencyMax;
+
+    ConfigParser(YamlTree tree, Path baseDir) {
+        this.r = new TreeReader(tree);
+        this.baseDir = baseDir;
+    }
+
+    WeftConfig parse() throws BadInputException {
+        Section root = r.root();
+        if (root == null) {
+            r.finish();
+        }
+        RobotConfig robot = robot(root.section("robot", true));
+        TimingConfig timing = timing(root.section("timing", true));
+        PolicySpec policy = policy(root.section("policy", true));
+        BlendingConfig blending = blending(root.section("blending", false), root.has("blending"));
+        SmoothingConfig smoothing = smoothing(root.section("smoothing", false), root.has("smoothing"));
+        WatchdogConfig watchdog = watchdog(root.section("watchdog", true));
+        ArmingConfig arming = arming(root.section("arming", true));
+        EndpointConfig source = endpoint(root.section("source", true));
+        EndpointConfig port = endpoint(root.section("port", true));
+        TelemetryConfig telemetry = telemetry(root.section("telemetry", false), root.has("telemetry"));
+        root.done();
+        crossChecks();
+        r.finish();
+        return new WeftConfig(robot, timing, policy, blending, smoothing, watchdog, arming, source, port, telemetry);
+    }
+
+    // ---- robot
+
+    private RobotConfig robot(Section s) {
+        if (s == null) {
+            return null;
+        }
+        int before = r.count();
+        String name = s.text("name", null);
+        Map<String, JsonNode> list = s.list("joints", true);
+        List<JointConfig> joints = new ArrayList<>();
+        if (list != null && list.isEmpty()) {
+            s.problem("joints", "must list at least one joint");
+        } else if (list != null) {
+            jointCount = list.size();
+        }
+        Map<String, String> firstByName = new HashMap<>();
+        if (list != null) {
+            for (Map.Entry<String, JsonNode> e : list.entrySet()) {
+                JointConfig j = joint(s.element(e.getKey(), e.getValue()), firstByName);
+                if (j != null) {
+                    joints.add(j);
+                }
+            }
+        }
+        s.done();
+        return r.count() == before ? new RobotConfig(name, joints) : null;
+    }
+
+    private JointConfig joint(Section j, Map<String, String> firstByName) {
+        if (j == null) {
+            return null;
+        }
+        int before = r.count();
+        String name = j.text("name", null);
+        if (name != null) {
+            String first = firstByName.putIfAbsent(name, j.path());
+            if (first != null) {
+                j.problem("name", "\"" + name + "\" is already the name of " + first);
+            }
+        }
+        Section pos = j.section("position", true);
+        Double min = null;
+        Double max = null;
+        Double margin = null;
+        if (pos != null) {
+            min = pos.number("min", null);
+            max = pos.number("max", null);
+            margin = pos.nonNegative("margin", 0.0);
+            if (min != null && max != null && !(min < max)) {
+                pos.problem("max", "must be > min (" + r.raw(pos.pathOf("min")) + "), got " + r.raw(pos.pathOf("max")));
+            } else if (min != null && max != null && margin != null && !(2 * margin < max - min)) {
+                pos.problem("margin", "must be < half the position range ((max - min) / 2 = " + show((max - min) / 2)
+                        + "), got " + r.raw(pos.pathOf("margin")));
+            }
+            pos.done();
+        }
+        Double velocity = j.positive("velocity", null);
+        Double acceleration = j.positive("acceleration", null);
+        Double jerk = j.positive("jerk", null);
+        j.done();
+        if (r.count() != before) {
+            return null;
+        }
+        return new JointConfig(name, min, max, margin, velocity, acceleration, jerk);
+    }
+
+    // ---- timing
+
+    private TimingConfig timing(Section s) {
+        if (s == null) {
+            return null;
+        }
+        int before = r.count();
+        Double control = s.positive("control_period", null);
+        Double step = s.has("policy_step") ? s.positive("policy_step", null) : control;
+        if (control != null && step != null && step < control) {
+            s.problem("policy_step", "must be >= control_period (" + r.raw(s.pathOf("control_period")) + "), got "
+                    + r.raw(s.pathOf("policy_step")));
+            step = null;
+        }
+        controlPeriod = control;
+        policyStep = step;
+        TimingConfig.QuerySchedule schedule = TimingConfig.QuerySchedule.WHEN_IDLE;
+        Integer every = 0;
+        Section q = s.section("query", false);
+        if (q != null) {
+            schedule = q.choice("schedule", TimingConfig.QuerySchedule.values(), TimingConfig.QuerySchedule::label,
+                    null);
+            if (schedule == TimingConfig.QuerySchedule.FIXED) {
+                every = q.count("every_ticks", null, 1);
+            } else if (schedule == TimingConfig.QuerySchedule.WHEN_IDLE && q.has("every_ticks")) {
+                q.get("every_ticks", false);
+                q.problem("every_ticks", "applies only to schedule fixed; schedule when_idle queries whenever the "
+                        + "inference worker is free");
+            } else if (schedule == null) {
+                q.get("every_ticks", false);
+            }
+            q.done();
+        }
+        this.schedule = schedule;
+        everyTicks = every;
+        Double spin;
+        if (s.has("spin_window")) {
+            spin = s.nonNegative("spin_window", null);
+            if (spin != null && control != null && !(spin < control)) {
+                s.problem("spin_window", "must be < control_period (" + r.raw(s.pathOf("control_period")) + "), got "
+                        + r.raw(s.pathOf("spin_window")));
+            }
+        } else {
+            spin = control == null ? null : Math.min(WeftConfig.DEFAULT_SPIN_WINDOW, control / 2);
+        }
+        s.done();
+        if (r.count() != before) {
+            return null;
+        }
+        return new TimingConfig(control, step, schedule, every, spin);
+    }
+
+    // ---- policy
+
+    private PolicySpec policy(Section s) {
+        if (s == null) {
+            return null;
+        }
+        int before = r.count();
+        Path model = null;
+        String modelText = s.text("model", null);
+        if (modelText != null) {
+            model = baseDir.resolve(modelText).normalize();
+            if (!Files.exists(model)) {
+                s.problem("model", "file not found: " + model);
+            } else if (!Files.isRegularFile(model)) {
+                s.problem("model", "is not a file: " + model);
+            }
+        }
+        Integer observationSize = s.count("observation_size", null, 1);
+        Map<String, InputBinding> inputs = new LinkedHashMap<>();
+        Section in = s.section("inputs", true);
+        if (in != null) {
+            in.acceptAllKeys();
+            if (in.keys().isEmpty()) {
+                s.problem("inputs", "must bind at least one model input");
+            }
+            for (String name : in.keys()) {
+                InputBinding b = binding(in.section(name, true));
+                if (b != null) {
+                    inputs.put(name, b);
+                }
+            }
+            in.done();
+        }
+        OutputSpec output = output(s.section("output", true));
+        SessionSettings session = session(s.section("session", false));
+        s.done();
+        if (r.count() != before) {
+            return null;
+        }
+        return new PolicySpec(model, observationSize, inputs, output, session);
+    }
+
+    private InputBinding binding(Section b) {
+        if (b == null) {
+            return null;
+        }
+        int before = r.count();
+        InputBinding.Kind kind = b.choice("source", InputBinding.Kind.values(), InputBinding.Kind::label, null);
+        if (kind == null) {
+            b.acceptAllKeys();
+            return null;
+        }
+        InputBinding out = null;
+        switch (kind) {
+            case OBSERVATION -> out = new InputBinding.Observation();
+            case STEP -> out = new InputBinding.Step();
+            case HISTORY -> {
+                Integer depth = b.count("depth", null, 1);
+                out = depth == null ? null : new InputBinding.History(depth);
+            }
+            case CONSTANT -> {
+                Map<String, JsonNode> values = b.list("values", true);
+                if (values != null) {
+                    if (values.isEmpty()) {
+                        b.problem("values", "must hold at least one number");
+                    }
+                    double[] v = new double[values.size()];
+                    int i = 0;
+                    for (Map.Entry<String, JsonNode> e : values.entrySet()) {
+                        Double d = r.finite(e.getKey(), e.getValue());
+                        v[i++] = d == null ? 0 : d;
+                    }
+                    out = new InputBinding.Constant(v);
+                }
+            }
+            case NOISE -> {
+                Long seed = b.whole("seed", null, Long.MIN_VALUE, Long.MAX_VALUE);
+                Double stddev = b.nonNegative("stddev", WeftConfig.DEFAULT_NOISE_STDDEV);
+                Integer count = b.has("count") ? b.count("count", null, 1) : Integer.valueOf(0);
+                if (seed != null && stddev != null && count != null) {
+                    out = new InputBinding.Noise(seed, stddev, count);
+                }
+            }
+            default -> throw new IllegalStateException(kind.toString());
+        }
+        b.done();
+        return r.count() == before ? out : null;
+    }
+
+    private OutputSpec output(Section o) {
+        if (o == null) {
+            return null;
+        }
+        int before = r.count();
+        String name = o.has("name") ? o.text("name", null) : null;
+        ChunkLayout layout = o.choice("layout", ChunkLayout.values(), ChunkLayout::label, null);
+        Integer k = o.has("chunk_length") ? o.count("chunk_length", null, 1) : Integer.valueOf(0);
+        if (layout == ChunkLayout.SINGLE_ACTION && k != null && k > 1) {
+            o.problem("chunk_length", "must be 1 for layout 1xD (one action per call), got " + k);
+        } else if (layout == ChunkLayout.SINGLE_ACTION) {
+            chunkLength = 1;
+        } else if (k != null && k > 0) {
+            chunkLength = k;
+        }
+        Integer d = o.has("action_size") ? o.count("action_size", null, 1) : null;
+        if (d != null && jointCount != null && !d.equals(jointCount)) {
+            o.problem("action_size", "must equal the number of joints in robot.joints (" + jointCount
+                    + "), got " + d);
+        }
+        o.done();
+        if (r.count() != before) {
+            return null;
+        }
+        int actionSize = d != null ? d : jointCount != null ? jointCount : 0;
+        return new OutputSpec(name, layout, k, actionSize);
+    }
+
+    private SessionSettings session(Section s) {
+        if (s == null) {
+            return SessionSettings.DEFAULTS;
+        }
+        int before = r.count();
+        SessionSettings d = SessionSettings.DEFAULTS;
+        Integer threads = s.count("intra_op_threads", d.intraOpThreads(), 1);
+        SessionSettings.Optimization optimization = s.choice("optimization", SessionSettings.Optimization.values(),
+                o -> o.name().toLowerCase(Locale.ROOT), d.optimization());
+        Boolean spinning = s.flag("spinning", d.spinning());
+        Integer warmup = s.count("warmup_runs", d.warmupRuns(), 0);
+        s.done();
+        if (r.count() != before) {
+            return null;
+        }
+        return new SessionSettings(threads, optimization, spinning, warmup);
+    }
+
+    // ---- blending and smoothing
+
+    private BlendingConfig blending(Section s, boolean given) {
+        if (s == null) {
+            return given ? null : BlendingConfig.DEFAULTS;
+        }
+        int before = r.count();
+        BlendingConfig d = BlendingConfig.DEFAULTS;
+        BlendingConfig.Method method = s.choice("method", BlendingConfig.Method.values(), BlendingConfig.Method::label,
+                d.method());
+        Interpolation interpolation = s.choice("interpolation", Interpolation.values(),
+                i -> i.name().toLowerCase(Locale.ROOT), d.interpolation());
+        if (method == null) {
+            s.acceptAllKeys();
+            s.done();
+            return null;
+        }
+        blendMethod = method;
+        for (BlendingConfig.Method m : BlendingConfig.Method.values()) {
+            if (m != method && s.has(m.label())) {
+                s.get(m.label(), false);
+                s.problem(m.label(), "is given but blending.method is " + method.label()
+                        + "; remove it or change the method");
+            }
+        }
+        double weightRate = d.weightRate();
+        BlendingConfig.Favour favour = d.favour();
+        int executed = 0;
+        int fade = 0;
+        switch (method) {
+            case ENSEMBLE -> {
+                Section e = s.section("ensemble", false);
+                if (e != null) {
+                    Double m = e.nonNegative("weight_rate", d.weightRate());
+                    BlendingConfig.Favour f = e.choice("favour", BlendingConfig.Favour.values(),
+                            BlendingConfig.Favour::label, d.favour());
+                    e.done();
+                    weightRate = m == null ? weightRate : m;
+                    favour = f == null ? favour : f;
+                }
+            }
+            case LATEST -> {
+                Section l = s.section("latest", false);
+                if (l != null) {
+                    Integer n = l.has("executed_steps") ? l.count("executed_steps", null, 1) : Integer.valueOf(0);
+                    l.done();
+                    executed = n == null ? 0 : n;
+                    executedSteps = n;
+                }
+            }
+            case CROSSFADE -> {
+                Section c = s.section("crossfade", true);
+                if (c != null) {
+                    Integer n = c.count("fade_steps", null, 1);
+                    c.done();
+                    fade = n == null ? 0 : n;
+                }
+            }
+            default -> throw new IllegalStateException(method.toString());
+        }
+        s.done();
+        if (r.count() != before) {
+            return null;
+        }
+        return new BlendingConfig(method, interpolation, weightRate, favour, executed, fade);
+    }
+
+    private SmoothingConfig smoothing(Section s, boolean given) {
+        if (s == null) {
+            return given ? null : SmoothingConfig.NONE;
+        }
+        int before = r.count();
+        SmoothingConfig.Method method = s.choice("method", SmoothingConfig.Method.values(),
+                SmoothingConfig.Method::label, SmoothingConfig.Method.NONE);
+        if (method == null) {
+            s.acceptAllKeys();
+            s.done();
+            return null;
+        }
+        for (SmoothingConfig.Method m : SmoothingConfig.Method.values()) {
+            if (m != method && m != SmoothingConfig.Method.NONE && s.has(m.label())) {
+                s.get(m.label(), false);
+                s.problem(m.label(), "is given but smoothing.method is " + method.label()
+                        + "; remove it or change the method");
+            }
+        }
+        SmoothingConfig out = null;
+        switch (method) {
+            case NONE -> out = SmoothingConfig.NONE;
+            case BUTTERWORTH -> {
+                Section b = s.section("butterworth", true);
+                if (b != null) {
+                    Double cutoff = b.positive("cutoff", null);
+                    butterworthCutoff = cutoff;
+                    b.done();
+                    out = cutoff == null ? null : new SmoothingConfig(method, cutoff, 0, 0, 0);
+                }
+            }
+            case ONE_EURO -> {
+                Section e = s.section("one_euro", true);
+                if (e != null) {
+                    Double min = e.positive("min_cutoff", null);
+                    Double beta = e.nonNegative("beta", 0.0);
+                    Double dc = e.positive("derivative_cutoff", WeftConfig.DEFAULT_DERIVATIVE_CUTOFF);
+                    e.done();
+                    if (min != null && beta != null && dc != null) {
+                        out = new SmoothingConfig(method, 0, min, beta, dc);
+                    }
+                }
+            }
+            default -> throw new IllegalStateException(method.toString());
+        }
+        s.done();
+        return r.count() == before ? out : null;
+    }
+
+    // ---- watchdog and arming
+
+    private WatchdogConfig watchdog(Section s) {
+        if (s == null) {
+            return null;
+        }
+        int before = r.count();
+        Double age = s.positive("observation_age_max", null);
+        Double remaining = s.nonNegative("plan_remaining_min", 0.0);
+        Double latency = s.positive("inference_latency_max", null);
+        observationAgeMax = age;
+        planRemainingMin = remaining;
+        inferenceLatencyMax = latency;
+        Integer overruns = s.count("overruns_max", null, 1);
+        List<WatchdogConfig.Disabled> disabled = new ArrayList<>();
+        Map<String, JsonNode> list = s.list("disabled", false);
+        if (list != null) {
+            Map<WatchdogConfig.Condition, String> firstBy = new HashMap<>();
+            for (Map.Entry<String, JsonNode> e : list.entrySet()) {
+                Section d = s.element(e.getKey(), e.getValue());
+                if (d == null) {
+                    continue;
+                }
+                WatchdogConfig.Condition c = null;
+                JsonNode given = d.peek("condition");
+                if (given != null && given.isTextual() && given.textValue().equals(WatchdogConfig.Condition.OPERATOR_STOP.label())) {
+                    d.get("condition", true);
+                    d.problem("condition", "operator_stop cannot be disabled: an operator's stop request always stops");
+                } else {
+                    c = d.choice("condition", disableable(), WatchdogConfig.Condition::label, null);
+                }
+                String reason = d.text("reason", null);
+                if (c != null) {
+                    String first = firstBy.putIfAbsent(c, d.path());
+                    if (first != null) {
+                        d.problem("condition", c.label() + " is already disabled by " + first);
+                    }
+                }
+                d.done();
+                if (c != null && reason != null) {
+                    disabled.add(new WatchdogConfig.Disabled(c, reason));
+                }
+            }
+        }
+        s.done();
+        if (r.count() != before) {
+            return null;
+        }
+        return new WatchdogConfig(age, remaining, latency, overruns, disabled);
+    }
+
+    private static WatchdogConfig.Condition[] disableable() {
+        List<WatchdogConfig.Condition> out = new ArrayList<>();
+        for (WatchdogConfig.Condition c : WatchdogConfig.Condition.values()) {
+            if (c.canDisable()) {
+                out.add(c);
+            }
+        }
+        return out.toArray(new WatchdogConfig.Condition[0]);
+    }
+
+    private ArmingConfig arming(Section s) {
+        if (s == null) {
+            return null;
+        }
+        int before = r.count();
+        Double distance = s.positive("pose_distance_max", null);
+        Double ramp = s.has("ramp_time") ? s.positive("ramp_time", null) : Double.valueOf(0);
+        Long category = s.whole("stop_category", (long) ArmingConfig.DEFAULT_STOP_CATEGORY, 1, 2);
+        s.done();
+        if (r.count() != before) {
+            return null;
+        }
+        return new ArmingConfig(distance, ramp, (int) (long) category);
+    }
+
+    // ---- source, port, telemetry
+
+    private EndpointConfig endpoint(Section s) {
+        if (s == null) {
+            return null;
+        }
+        int before = r.count();
+        String kind = s.text("kind", null);
+        Map<String, Object> options = Map.of();
+        JsonNode o = s.get("options", false);
+        if (o != null) {
+            if (o.isObject()) {
+                options = plainMap(o);
+            } else {
+                s.problem("options", "must be a map, got " + r.describe(s.pathOf("options"), o));
+            }
+        }
+        s.done();
+        if (r.count() != before) {
+            return null;
+        }
+        return new EndpointConfig(kind, options, s.pathOf("options"), baseDir);
+    }
+
+    private TelemetryConfig telemetry(Section s, boolean given) {
+        if (s == null) {
+            return given ? null : TelemetryConfig.NONE;
+        }
+        int before = r.count();
+        Optional<Path> file = Optional.empty();
+        if (s.has("file")) {
+            String text = s.text("file", null);
+            if (text != null) {
+                Path p = baseDir.resolve(text).normalize();
+                Path folder = p.getParent();
+                if (Files.isDirectory(p)) {
+                    s.problem("file", "is a folder, not a file: " + p);
+                } else if (folder == null || !Files.isDirectory(folder)) {
+                    s.problem("file", "folder not found: " + folder);
+                }
+                file = Optional.of(p);
+            }
+        }
+        s.done();
+        return r.count() == before ? new TelemetryConfig(file) : null;
+    }
+
+    // ---- rules between sections
+
+    private void crossChecks() {
+        if (controlPeriod == null) {
+            return;
+        }
+        if (observationAgeMax != null && observationAgeMax < controlPeriod) {
+            r.add("watchdog.observation_age_max", "must be >= timing.control_period (" + show(controlPeriod)
+                    + "), got " + show(observationAgeMax));
+        }
+        if (butterworthCutoff != null) {
+            double nyquist = 1 / (2 * controlPeriod);
+            if (!(butterworthCutoff < nyquist)) {
+                r.add("smoothing.butterworth.cutoff", "must be below the Nyquist frequency of the control rate ("
+                        + show(nyquist) + " Hz = 1 / (2 × timing.control_period)), got " + show(butterworthCutoff));
+            }
+        }
+        if (chunkLength == null) {
+            return;
+        }
+        int k = chunkLength;
+        boolean latest = blendMethod == BlendingConfig.Method.LATEST && executedSteps != null && executedSteps > 0;
+        if (latest && executedSteps > k) {
+            r.add("blending.latest.executed_steps", "must be <= policy.output.chunk_length (" + k + "), got "
+                    + executedSteps);
+            return;
+        }
+        if (policyStep == null) {
+            return;
+        }
+        int planned = latest ? executedSteps : k;
+        double span = planned * policyStep;
+        String spanText = (latest ? "blending.latest.executed_steps" : "policy.output.chunk_length")
+                + " × timing.policy_step = " + planned + " × " + show(policyStep) + " s = " + show(span) + " s";
+        if (schedule == TimingConfig.QuerySchedule.FIXED && everyTicks != null) {
+            double interval = everyTicks * controlPeriod;
+            if (interval > span * (1 + TIME_SLACK)) {
+                r.add("timing.query.every_ticks", "queries " + show(interval) + " s apart (" + everyTicks
+                        + " × timing.control_period) outlast the plan one chunk gives (" + spanText
+                        + "), so the plan would run out even with instant inference");
+            }
+        }
+        if (planRemainingMin != null && planRemainingMin >= span * (1 - TIME_SLACK)) {
+            r.add("watchdog.plan_remaining_min", "must be below the plan one chunk gives (" + spanText + "), got "
+                    + show(planRemainingMin));
+        }
+        if (inferenceLatencyMax != null && inferenceLatencyMax >= span * (1 - TIME_SLACK)) {
+            r.add("watchdog.inference_latency_max", "must be below the plan one chunk gives (" + spanText
+                    + ": a chunk that late is entirely in the past), got " + show(inferenceLatencyMax));
+        }
+    }
+
+    // ---- helpers
+
+    /** A computed number for a message: at most six significant digits, no trailing zeros. */
+    static String show(double v) {
+        if (!Double.isFinite(v)) {
+            return Double.toString(v);
+        }
+        return new BigDecimal(v).round(new MathContext(6)).stripTrailingZeros().toPlainString();
+    }
+
+    private static Map<String, Object> plainMap(JsonNode o) {
+        Map<String, Object> m = new LinkedHashMap<>();
+        for (Map.Entry<String, JsonNode> e : o.properties()) {
+            m.put(e.getKey(), plain(e.getValue()));
+        }
+        return Collections.unmodifiableMap(m);
+    }
+
+    private static Object plain(JsonNode n) {
+        if (n.isObject()) {
+            return plainMap(n);
+        }
+        if (n.isArray()) {
+            List<Object> l = new ArrayList<>();
+            for (JsonNode e : n) {
+                l.add(plain(e));
+            }
+            return Collections.unmodifiableList(l);
+        }
+        if (n.isTextual()) {
+            return n.textValue();
+        }
+        if (n.isBoolean()) {
+            return n.booleanValue();
+        }
+        if (n.isInt()) {
+            return n.intValue();
+        }
+        if (n.isLong()) {
+            return n.longValue();
+        }
+        if (n.isBigInteger()) {
+            return n.bigIntegerValue();
+        }
+        if (n.isNumber()) {
+            return n.doubleValue();
+        }
+        return null;
+    }
+}
