@@ -305,10 +305,10 @@ public final class ControlLoop implements AutoCloseable {
         // 6 limiter, inside the supervisor: hold when disarmed or faulted, soft start, stop
         SupervisorState s;
         if (planned || supervisor.state() != SupervisorState.ARMED && supervisor.state() != SupervisorState.ARMING) {
-            s = supervisor.step(n, deadline, planned ? target : command, code, command);
+            s = supervisor.step(n, deadline - t0, planned ? target : command, code, command);
         } else {
             // no plan while moving: the watchdog reports starvation; the supervisor sees a hold target
-            s = supervisor.step(n, deadline, command, code == 0 ? Cause.NON_FINITE_TARGET : code, command);
+            s = supervisor.step(n, deadline - t0, command, code == 0 ? Cause.NON_FINITE_TARGET : code, command);
         }
 
         // 8 emit (invariant 2: nothing non-finite reaches the port)
@@ -396,7 +396,7 @@ public final class ControlLoop implements AutoCloseable {
                     measured[i] = observation[positionIndex[i]];
                 }
                 if (blender.actionAt(n, target)) {
-                    result = supervisor.arm(n, deadline, measured, target);
+                    result = supervisor.arm(n, deadline - t0, measured, target);
                 } else {
                     result = ARM_REFUSED_NO_PLAN;
                 }
@@ -405,7 +405,7 @@ public final class ControlLoop implements AutoCloseable {
                 supervisor.requestDisarm();
                 result = 0;
             }
-            case CMD_RESET -> result = supervisor.reset(n, deadline);
+            case CMD_RESET -> result = supervisor.reset(n, deadline - t0);
             default -> result = 0;
         }
         commandResult = result;
@@ -490,6 +490,11 @@ public final class ControlLoop implements AutoCloseable {
     }
 
     // ------------------------------------------------------------------ lifecycle and readouts
+
+    /** Joints per command. */
+    public int supervisorJoints() {
+        return joints;
+    }
 
     /** True while the loop thread runs. */
     public boolean running() {

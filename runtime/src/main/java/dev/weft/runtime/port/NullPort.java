@@ -44,11 +44,11 @@ public final class NullPort implements CommandPort {
         // nothing to close
     }
 
-    /** The {@code null} kind. */
+    /** The {@code discard} kind (named so because a bare {@code null} is an empty value in YAML). */
     public static final class Provider implements CommandPortProvider {
         @Override
         public String kind() {
-            return "null";
+            return "discard";
         }
 
         @Override

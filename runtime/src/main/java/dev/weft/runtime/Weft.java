@@ -1,0 +1,470 @@
+package dev.weft.runtime;
+
+import dev.weft.filters.ChunkBlender;
+import dev.weft.filters.Interpolation;
+import dev.weft.filters.Smoother;
+import dev.weft.filters.TemporalEnsembleBlender;
+import dev.weft.runtime.loop.ControlLoop;
+import dev.weft.runtime.loop.Inference;
+import dev.weft.runtime.loop.InferenceWorker;
+import dev.weft.runtime.loop.LoopClock;
+import dev.weft.runtime.loop.LoopSettings;
+import dev.weft.runtime.loop.LoopStatus;
+import dev.weft.runtime.loop.ManualClock;
+import dev.weft.runtime.loop.ModelledLatencyInference;
+import dev.weft.runtime.loop.WaitStrategy;
+import dev.weft.runtime.policy.Policy;
+import dev.weft.runtime.port.CommandPort;
+import dev.weft.runtime.source.EmbeddedSource;
+import dev.weft.runtime.source.ObservationSource;
+import dev.weft.runtime.telemetry.CsvRecorder;
+import dev.weft.runtime.telemetry.TelemetryFormat;
+import dev.weft.runtime.telemetry.TelemetryRow;
+import dev.weft.safety.JointLimits;
+import dev.weft.safety.StopCategory;
+import dev.weft.safety.Supervisor;
+import dev.weft.safety.SupervisorState;
+import dev.weft.safety.TransitionListener;
+import dev.weft.safety.Watchdog;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.concurrent.TimeUnit;
+
+/**
+ * weft embedded in a robot team's own controller process: a policy, a command port, joint limits
+ * and timing in; a fixed-rate control loop out.
+ *
+ * <pre>{@code
+ * try (Weft weft = Weft.builder(limits, 0.002)
+ *         .policy(policy)              // an OnnxPolicy or a Java-coded Policy
+ *         .port(myDriverPort)          // a CommandPort
+ *         .build()) {
+ *     weft.start();                    // disarmed: hold commands only
+ *     driverThread: weft.offer(System.nanoTime(), jointState);
+ *     weft.arm();                      // soft start from the measured pose toward the plan
+ *     ...
+ *     weft.disarm();                   // controlled stop
+ * }
+ * }</pre>
+ *
+ * <p>Without an explicit {@link #arm()} nothing but hold commands leave the loop. A watchdog
+ * condition stops the robot and latches a fault until {@link #reset()}.
+ *
+ * <p>Threading: every method may be called from any thread except the loop's; {@link #offer} is
+ * meant for the application's driver thread.
+ */
+public final class Weft implements AutoCloseable {
+
+    private static final long COMMAND_TIMEOUT_NANOS = TimeUnit.SECONDS.toNanos(2);
+
+    private final ControlLoop loop;
+    private final CommandPort port;
+    private final ObservationSource source;
+    private final EmbeddedSource embedded;
+    private final Inference inference;
+    private final CsvRecorder<TelemetryRow> telemetry;
+    private final EventRelay relay;
+    private final Policy policy;
+    private final boolean closePolicy;
+    private boolean started;
+    private boolean closed;
+
+    private Weft(Builder b, ControlLoop loop, ObservationSource source, EmbeddedSource embedded, Inference inference,
+                 CsvRecorder<TelemetryRow> telemetry, EventRelay relay) {
+        this.loop = loop;
+        this.port = b.port;
+        this.source = source;
+        this.embedded = embedded;
+        this.inference = inference;
+        this.telemetry = telemetry;
+        this.relay = relay;
+        this.policy = b.policy;
+        this.closePolicy = b.closePolicy;
+    }
+
+    /**
+     * Starts a builder.
+     *
+     * @param limits joint limits, in the order of the policy's action values
+     * @param controlPeriodSeconds the control period Δc
+     */
+    public static Builder builder(JointLimits limits, double controlPeriodSeconds) {
+        return new Builder(limits, controlPeriodSeconds);
+    }
+
+    /**
+     * Opens the port, starts the source and the inference worker, waits for the first observation
+     * and starts the loop, disarmed.
+     *
+     * @throws IOException when the port or source cannot be opened; nothing is left running
+     * @throws IllegalStateException when no observation arrives in time
+     */
+    public synchronized void start() throws IOException {
+        if (started) {
+            throw new IllegalStateException("already started");
+        }
+        started = true;
+        try {
+            port.open(loop.supervisorJoints());
+            source.start();
+            if (inference instanceof InferenceWorker w) {
+                w.start();
+            }
+            loop.start("weft-loop");
+        } catch (IOException | RuntimeException e) {
+            close();
+            throw e;
+        }
+    }
+
+    /**
+     * Offers an observation to the embedded source.
+     *
+     * @param timeNanos when it was measured, on {@link System#nanoTime}'s scale
+     * @return false when refused (wrong length, non-finite value)
+     * @throws IllegalStateException when the run reads another source
+     */
+    public boolean offer(long timeNanos, double[] values) {
+        if (embedded == null) {
+            throw new IllegalStateException("this run reads " + source.describe() + ", not offered observations");
+        }
+        return embedded.offer(timeNanos, values);
+    }
+
+    /**
+     * Arms: soft start from the measured pose toward the plan.
+     *
+     * @return 0 when arming started, or the refusal's cause code ({@link #describe(int)} says why)
+     */
+    public int arm() {
+        return loop.arm(COMMAND_TIMEOUT_NANOS);
+    }
+
+    /** Controlled stop to disarmed (not a fault). */
+    public int disarm() {
+        return loop.disarm(COMMAND_TIMEOUT_NANOS);
+    }
+
+    /** Clears a latched fault once its condition has cleared; returns 0 or the refusal's cause. */
+    public int reset() {
+        loop.releaseOperatorStop();
+        return loop.reset(COMMAND_TIMEOUT_NANOS);
+    }
+
+    /** An operator stop: controlled stop, latched as a fault until {@link #reset()}. */
+    public void operatorStop() {
+        loop.operatorStop();
+    }
+
+    /** The fixed message of a cause or refusal code. */
+    public static String describe(int code) {
+        if (code == ControlLoop.ARM_REFUSED_NO_PLAN) {
+            return "arming refused: no plan covers the current tick yet";
+        }
+        if (code == ControlLoop.COMMAND_TIMED_OUT) {
+            return "the loop did not take the command in time";
+        }
+        if (code == ControlLoop.NOT_RUNNING) {
+            return "the loop is not running";
+        }
+        return dev.weft.safety.Cause.message(code);
+    }
+
+    /** The current state. */
+    public SupervisorState state() {
+        return loop.state();
+    }
+
+    /** A snapshot of the run's counters. */
+    public LoopStatus status() {
+        return loop.status();
+    }
+
+    /** The loop, for timing readouts ({@link ControlLoop#histograms}). */
+    public ControlLoop loop() {
+        return loop;
+    }
+
+    /** The port commands go to. */
+    public CommandPort port() {
+        return port;
+    }
+
+    /** True while the loop runs. */
+    public boolean running() {
+        return loop.running();
+    }
+
+    /**
+     * Ends the run: a moving robot is brought to a controlled stop first, then the loop, the
+     * worker, the source, the port and the telemetry file are closed (every row flushed).
+     * Idempotent.
+     */
+    @Override
+    public synchronized void close() {
+        if (closed) {
+            return;
+        }
+        closed = true;
+        List<Throwable> errors = new ArrayList<>();
+        run(errors, loop::close);
+        run(errors, inference::close);
+        run(errors, source::close);
+        run(errors, port::close);
+        if (telemetry != null) {
+            run(errors, () -> {
+                try {
+                    telemetry.close();
+                } catch (IOException e) {
+                    throw new UncheckedIOException(e);
+                }
+            });
+        }
+        if (relay != null) {
+            run(errors, relay::close);
+        }
+        if (closePolicy) {
+            run(errors, policy::close);
+        }
+        if (!errors.isEmpty()) {
+            RuntimeException e = new IllegalStateException("closing the run: " + errors.get(0).getMessage(), errors.get(0));
+            for (int i = 1; i < errors.size(); i++) {
+                e.addSuppressed(errors.get(i));
+            }
+            throw e;
+        }
+    }
+
+    private static void run(List<Throwable> errors, Runnable r) {
+        try {
+            r.run();
+        } catch (RuntimeException e) {
+            errors.add(e);
+        }
+    }
+
+    /** Builds a {@link Weft}; defaults follow the configuration file's. Not thread-safe. */
+    public static final class Builder {
+        private final JointLimits limits;
+        private final double period;
+        private Policy policy;
+        private boolean closePolicy;
+        private CommandPort port;
+        private ObservationSource source;
+        private double stepRatio = 1.0;
+        private ChunkBlender blender;
+        private Smoother smoother;
+        private Watchdog watchdog;
+        private StopCategory stopCategory = StopCategory.CATEGORY_2;
+        private double armingOffset = 0.1;
+        private double armingTimeout = 10.0;
+        private int queryEvery;
+        private double spinWindow = 0.0002;
+        private Path telemetryFile;
+        private WeftListener listener;
+        private LoopClock clock = LoopClock.system();
+        private WaitStrategy wait;
+        private long modelledLatencyTicks = -1;
+        private long maxTicks;
+        private int[] positionIndex;
+        private long firstObservationTimeout = TimeUnit.SECONDS.toNanos(5);
+
+        private Builder(JointLimits limits, double period) {
+            if (limits == null) {
+                throw new IllegalArgumentException("joint limits must be given");
+            }
+            if (!(period > 0) || !Double.isFinite(period)) {
+                throw new IllegalArgumentException("control period must be finite and > 0 s, got " + period);
+            }
+            this.limits = limits;
+            this.period = period;
+        }
+
+        /** The policy (required). {@code closeWithRun}: close it when the run closes. */
+        public Builder policy(Policy p, boolean closeWithRun) {
+            this.policy = p;
+            this.closePolicy = closeWithRun;
+            return this;
+        }
+
+        /** The policy (required); the caller closes it. */
+        public Builder policy(Policy p) {
+            return policy(p, false);
+        }
+
+        /** Where commands go (required). Opened by {@link Weft#start()}, closed by {@link Weft#close()}. */
+        public Builder port(CommandPort p) {
+            this.port = p;
+            return this;
+        }
+
+        /** Where observations come from; default: observations offered with {@link Weft#offer}. */
+        public Builder source(ObservationSource s) {
+            this.source = s;
+            return this;
+        }
+
+        /** For each joint, its position's index in the observation; default: the first D values. */
+        public Builder positionIndex(int[] index) {
+            this.positionIndex = index.clone();
+            return this;
+        }
+
+        /** Δp / Δc; default 1. */
+        public Builder policyStepRatio(double r) {
+            this.stepRatio = r;
+            return this;
+        }
+
+        /** The blender; default exponential temporal ensembling, oldest first, m = 0.01, linear. */
+        public Builder blender(ChunkBlender b) {
+            this.blender = b;
+            return this;
+        }
+
+        /** An optional smoother after blending. */
+        public Builder smoother(Smoother s) {
+            this.smoother = s;
+            return this;
+        }
+
+        /** The watchdog; default: the safety module's defaults. */
+        public Builder watchdog(Watchdog w) {
+            this.watchdog = w;
+            return this;
+        }
+
+        public Builder stopCategory(StopCategory c) {
+            this.stopCategory = c;
+            return this;
+        }
+
+        /** Largest distance between the measured pose and the first planned action to arm; default 0.1. */
+        public Builder armingOffset(double offset) {
+            this.armingOffset = offset;
+            return this;
+        }
+
+        /** Seconds the soft start may take before it is a fault; default 10. */
+        public Builder armingTimeout(double seconds) {
+            this.armingTimeout = seconds;
+            return this;
+        }
+
+        /** An inference request every {@code n} ticks; 0 (default) whenever the worker is free. */
+        public Builder queryEveryTicks(int n) {
+            this.queryEvery = n;
+            return this;
+        }
+
+        /** Seconds before each deadline the loop spins instead of parking; default 0.0002. */
+        public Builder spinWindow(double seconds) {
+            this.spinWindow = seconds;
+            return this;
+        }
+
+        /** Writes one telemetry row per tick to this CSV file. */
+        public Builder telemetry(Path file) {
+            this.telemetryFile = file;
+            return this;
+        }
+
+        /** Hears every transition, on weft's event thread. */
+        public Builder listener(WeftListener l) {
+            this.listener = l;
+            return this;
+        }
+
+        /**
+         * Runs on virtual time: a {@link ManualClock} the loop advances itself, with inference
+         * latency modelled as {@code latencyTicks} ticks. Deterministic; for dry runs and tests.
+         */
+        public Builder virtualTime(ManualClock clock, long latencyTicks) {
+            this.clock = clock;
+            this.wait = WaitStrategy.virtual();
+            this.modelledLatencyTicks = latencyTicks;
+            return this;
+        }
+
+        /** Ends the run after this many ticks; 0 (default) runs until closed. */
+        public Builder maxTicks(long ticks) {
+            this.maxTicks = ticks;
+            return this;
+        }
+
+        /** How long {@link Weft#start()} waits for the first observation; default 5 s. */
+        public Builder firstObservationTimeout(double seconds) {
+            this.firstObservationTimeout = (long) (seconds * 1e9);
+            return this;
+        }
+
+        /**
+         * Checks that the parts fit together and builds the run; nothing starts.
+         *
+         * @throws IllegalArgumentException naming what does not fit
+         */
+        public Weft build() throws IOException {
+            if (policy == null) {
+                throw new IllegalArgumentException("a policy must be given");
+            }
+            if (port == null) {
+                throw new IllegalArgumentException("a command port must be given");
+            }
+            int joints = limits.count();
+            if (policy.actionSize() != joints) {
+                throw new IllegalArgumentException("the policy's actions have " + policy.actionSize()
+                        + " values, the limits describe " + joints + " joints");
+            }
+            EmbeddedSource embedded = null;
+            ObservationSource src = source;
+            if (src == null) {
+                embedded = new EmbeddedSource(policy.observationSize());
+                src = embedded;
+            }
+            if (src.size() != policy.observationSize()) {
+                throw new IllegalArgumentException("the source gives " + src.size() + " values, the policy reads "
+                        + policy.observationSize());
+            }
+            long periodNanos = Math.round(period * 1e9);
+            ChunkBlender b = blender != null ? blender
+                    : TemporalEnsembleBlender.oldestFirst(joints, policy.chunkLength(), stepRatio, Interpolation.LINEAR,
+                            0.01);
+            if (b.dimensions() != joints) {
+                throw new IllegalArgumentException("the blender has " + b.dimensions() + " dimensions for " + joints
+                        + " joints");
+            }
+            if (b.maxSteps() < policy.chunkLength()) {
+                throw new IllegalArgumentException("the blender takes chunks of up to " + b.maxSteps()
+                        + " steps, the policy gives " + policy.chunkLength());
+            }
+            Watchdog w = watchdog != null ? watchdog : Watchdog.builder().build();
+            WaitStrategy ws = wait != null ? wait : WaitStrategy.parkThenSpin(Math.round(spinWindow * 1e9));
+            Inference inf = modelledLatencyTicks >= 0
+                    ? new ModelledLatencyInference(policy, modelledLatencyTicks, periodNanos)
+                    : new InferenceWorker(policy, clock, 64, "weft-inference");
+            CsvRecorder<TelemetryRow> rec = null;
+            if (telemetryFile != null) {
+                List<String> names = new ArrayList<>();
+                for (int i = 0; i < joints; i++) {
+                    names.add(limits.name(i));
+                }
+                rec = CsvRecorder.open(telemetryFile, 1 << 14, () -> new TelemetryRow(joints), new TelemetryFormat(names),
+                        "weft-telemetry");
+            }
+            EventRelay relay = listener == null ? null : new EventRelay(listener);
+            TransitionListener tl = relay == null ? TransitionListener.NONE : relay;
+            LoopSettings settings = new LoopSettings(periodNanos, queryEvery,
+                    positionIndex != null ? positionIndex : LoopSettings.leadingPositions(joints), maxTicks,
+                    firstObservationTimeout, TimeUnit.SECONDS.toNanos(10));
+            long timeoutTicks = Math.max(1, Math.round(armingTimeout / period));
+            ControlLoop loop = new ControlLoop(clock, ws, settings, src, inf, b, smoother, w,
+                    pose -> Supervisor.builder(limits, period).stopCategory(stopCategory).maxArmingOffset(armingOffset)
+                            .armingTimeoutTicks(timeoutTicks).listener(tl).build(pose),
+                    stopCategory, port, rec);
+            return new Weft(this, loop, src, embedded, inf, rec, relay);
+        }
+    }
+}
