@@ -71,6 +71,27 @@ public final class PolicyModels {
         return new Built(g.toBytes(), mlp);
     }
 
+    /**
+     * A policy that always plans the same pose: {@code actions [1, K, D]} every action equal to
+     * {@code goal}, whatever the observation {@code obs [1, O]} (the observation still flows
+     * through the graph, multiplied by zero). For runs whose outcome must not depend on the
+     * plant's noise.
+     */
+    public static byte[] goalPolicy(int obs, int k, double[] goal) {
+        int d = goal.length;
+        OnnxGraph g = OnnxGraph.named("goal_policy");
+        String x = g.input("obs", Element.FLOAT, 1, obs);
+        float[] bias = new float[k * d];
+        for (int i = 0; i < bias.length; i++) {
+            bias[i] = (float) goal[i % d];
+        }
+        String zero = g.floats("zero", new float[obs * k * d], obs, (long) k * d);
+        String flat = g.add(g.matMul(x, zero), g.floats("goal", bias, 1, (long) k * d));
+        g.reshapeNamed("actions", flat, 1, k, d);
+        g.output("actions", Element.FLOAT, 1, k, d);
+        return g.toBytes();
+    }
+
     /** Observation {@code obs [1, O]} → flat chunk {@code actions [1, K·D]}. */
     public static Built flatChunkPolicy(int obs, int hidden, int k, int d, long seed) {
         Mlp mlp = Mlp.random(obs, hidden, k * d, seed);

@@ -10,12 +10,12 @@ import picocli.CommandLine.Command;
         header = {
             "weft: runs a trained robot policy at a fixed control rate, next to the motors.",
             "",
-            "CAUTION: weft commands machines that can injure people. It is not a safety-rated",
-            "component. A hardware emergency stop and a safety-rated controller stay in charge.",
-            "Do a risk assessment, dry-run first, and defer to local codes and licensed practice.",
+            Caution.LINE_1,
+            Caution.LINE_2,
+            Caution.LINE_3,
             ""
         },
-        subcommands = {InspectCommand.class, CommandLine.HelpCommand.class},
+        subcommands = {InspectCommand.class, CheckCommand.class, RunCommand.class, CommandLine.HelpCommand.class},
         exitCodeListHeading = "%nExit codes:%n",
         exitCodeList = {
             "0:done",

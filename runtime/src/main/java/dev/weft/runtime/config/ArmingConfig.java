@@ -5,7 +5,7 @@ package dev.weft.runtime.config;
  *
  * @param poseDistanceMax largest distance, per joint (rad or m), between the measured pose and the
  *     policy's first target that arming accepts, {@code > 0}
- * @param rampTime duration in seconds of the soft start after arming; 0 for no soft start
+ * @param rampTime the longest the soft start may take, in seconds; 0 when not configured (10 s then)
  * @param stopCategory stop category of a controlled stop (IEC 60204-1): 1 (stop, then drive power
  *     removed) or 2 (stop, power kept)
  */

@@ -68,6 +68,7 @@ public final class ControlLoop implements AutoCloseable {
     private final LoopSettings settings;
     private final long period;
     private final ObservationSource source;
+    private final dev.weft.runtime.source.FollowsCommands follower;
     private final Inference worker;
     private final ChunkBlender blender;
     private final Smoother smoother;
@@ -142,6 +143,7 @@ public final class ControlLoop implements AutoCloseable {
         this.settings = settings;
         this.period = settings.periodNanos();
         this.source = source;
+        this.follower = source instanceof dev.weft.runtime.source.FollowsCommands f ? f : null;
         this.worker = worker;
         this.blender = blender;
         this.smoother = smoother;
@@ -329,6 +331,9 @@ public final class ControlLoop implements AutoCloseable {
             frame.velocities[i] = v;
         }
         boolean emitted = finite && port.emit(frame);
+        if (follower != null && finite) {
+            follower.followed(frame);
+        }
 
         long end = clock.nanoTime();
         long computeNanos = end - start;
@@ -366,7 +371,7 @@ public final class ControlLoop implements AutoCloseable {
         state = s;
         planTicks.lazySet(remaining);
         watchdogMask.lazySet(watchdog.activeMask());
-        ticks.lazySet(n + 1);
+        ticks.lazySet(ticks.get() + 1);
 
         // next tick: the one whose deadline passed last, never one already past by a period
         long next = n + 1;

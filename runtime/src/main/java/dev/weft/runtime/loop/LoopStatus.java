@@ -4,7 +4,7 @@ package dev.weft.runtime.loop;
  * A snapshot of a running loop, for status lines and the embedding API.
  *
  * @param state supervisor state, lower case
- * @param ticks ticks run
+ * @param ticks ticks run (executed; a skipped deadline is not a tick run)
  * @param overruns ticks that ended after the next deadline
  * @param skipped deadlines skipped because the loop was more than a period late
  * @param planTicks ticks of plan ahead at the latest tick

@@ -1,0 +1,186 @@
+package dev.weft.runtime.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import dev.weft.onnxkit.PolicyModels;
+import dev.weft.runtime.port.CommandFrame;
+import dev.weft.runtime.udp.DatagramCodec;
+import dev.weft.runtime.udp.DatagramStatus;
+import java.net.InetSocketAddress;
+import java.net.StandardSocketOptions;
+import java.nio.ByteBuffer;
+import java.nio.ByteOrder;
+import java.nio.channels.DatagramChannel;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.Timeout;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * {@code weft run} end to end: a generated ONNX policy, the simulated plant as the source, the
+ * UDP port sending to a receiver on loopback. The receiver must see every command the loop sent,
+ * in order, one per tick.
+ */
+class RunCommandTest {
+
+    @TempDir
+    Path dir;
+
+    static final int JOINTS = 3;
+
+    private Path writeConfig(int udpPort, String extra) throws Exception {
+        Files.write(dir.resolve("goal.onnx"), PolicyModels.goalPolicy(JOINTS, 50, new double[] {0.3, -0.2, 0.1}));
+        String yaml = """
+                robot:
+                  name: loopback-bench
+                  joints:
+                    - {name: a, position: {min: -1.5, max: 1.5}, velocity: 1.0, acceleration: 8, jerk: 120}
+                    - {name: b, position: {min: -1.5, max: 1.5}, velocity: 1.0, acceleration: 8, jerk: 120}
+                    - {name: c, position: {min: -1.5, max: 1.5}, velocity: 1.0, acceleration: 8, jerk: 120}
+                timing:
+                  control_period: 0.002
+                policy:
+                  model: goal.onnx
+                  observation_size: 3
+                  inputs:
+                    obs: {source: observation}
+                  output: {layout: 1xKxD}
+                watchdog:
+                  observation_age_max: 0.05
+                  inference_latency_max: 0.05
+                  overruns_max: 100
+                arming:
+                  pose_distance_max: 0.5
+                  ramp_time: 5
+                source:
+                  kind: sim
+                port:
+                  kind: udp
+                  options:
+                    host: 127.0.0.1
+                    port: %d
+                    queue: 1024
+                telemetry:
+                  file: telemetry.csv
+                """.formatted(udpPort) + extra;
+        return Files.writeString(dir.resolve("run.yaml"), yaml);
+    }
+
+    @Test
+    @Timeout(60)
+    void armedRunSendsOneDatagramPerTickInOrderToALoopbackReceiver() throws Exception {
+        try (DatagramChannel rx = DatagramChannel.open()) {
+            rx.setOption(StandardSocketOptions.SO_RCVBUF, 4 << 20);
+            rx.bind(new InetSocketAddress("127.0.0.1", 0));
+            rx.configureBlocking(false);
+            int port = ((InetSocketAddress) rx.getLocalAddress()).getPort();
+            Path cfg = writeConfig(port, "");
+            List<Long> sequences = new ArrayList<>();
+            List<Long> ticks = new ArrayList<>();
+            List<Byte> states = new ArrayList<>();
+            Thread receiver = new Thread(() -> receive(rx, sequences, ticks, states));
+            receiver.start();
+            InspectCommandTest.Run r = InspectCommandTest.weft("run", cfg.toString(), "--arm", "--duration", "2",
+                    "--status-every", "0.5");
+            Thread.sleep(300);
+            receiver.interrupt();
+            receiver.join();
+            assertThat(r.out()).startsWith(Caution.LINE_1);
+            assertThat(r.out()).contains("armed: soft start toward the plan");
+            assertThat(r.exit()).as(r.out() + r.err()).isZero();
+            Matcher m = Pattern.compile("after (\\d+) ticks").matcher(r.out());
+            assertThat(m.find()).as(r.out()).isTrue();
+            long ran = Long.parseLong(m.group(1));
+            assertThat(ran).isGreaterThan(500);
+            assertThat(sequences).as("one datagram per tick; " + r.out()).hasSize((int) ran);
+            for (int i = 0; i < sequences.size(); i++) {
+                assertThat(sequences.get(i)).isEqualTo(i + 1L);
+            }
+            for (int i = 1; i < ticks.size(); i++) {
+                assertThat(ticks.get(i)).isGreaterThan(ticks.get(i - 1));
+            }
+            assertThat(states).contains(CommandFrame.STATE_ARMED);
+            // the telemetry file has one row per tick as well
+            assertThat(Files.readAllLines(dir.resolve("telemetry.csv"))).hasSize((int) ran + 1);
+        }
+    }
+
+    @Test
+    void withoutArmOnlyHoldCommandsGoOut() throws Exception {
+        try (DatagramChannel rx = DatagramChannel.open()) {
+            rx.bind(new InetSocketAddress("127.0.0.1", 0));
+            rx.configureBlocking(false);
+            int port = ((InetSocketAddress) rx.getLocalAddress()).getPort();
+            Path cfg = writeConfig(port, "");
+            List<Long> sequences = new ArrayList<>();
+            List<Long> ticks = new ArrayList<>();
+            List<Byte> states = new ArrayList<>();
+            Thread receiver = new Thread(() -> receive(rx, sequences, ticks, states));
+            receiver.start();
+            InspectCommandTest.Run r = InspectCommandTest.weft("run", cfg.toString(), "--duration", "0.5");
+            Thread.sleep(200);
+            receiver.interrupt();
+            receiver.join();
+            assertThat(r.exit()).as(r.out() + r.err()).isZero();
+            assertThat(r.out()).contains("not armed: hold commands only");
+            assertThat(states).isNotEmpty().containsOnly(CommandFrame.STATE_DISARMED);
+        }
+    }
+
+    @Test
+    void badConfigurationExitsTwoNamingTheKey() throws Exception {
+        Path cfg = writeConfig(9, "");
+        Files.writeString(cfg, Files.readString(cfg).replace("jerk: 120}", "jerk: -2}"));
+        InspectCommandTest.Run r = InspectCommandTest.weft("run", cfg.toString());
+        assertThat(r.exit()).isEqualTo(2);
+        assertThat(r.err()).isEqualTo("weft run: 3 problems:" + System.lineSeparator()
+                + "  robot.joints[0].jerk (line 4): must be > 0, got -2" + System.lineSeparator()
+                + "  robot.joints[1].jerk (line 5): must be > 0, got -2" + System.lineSeparator()
+                + "  robot.joints[2].jerk (line 6): must be > 0, got -2" + System.lineSeparator());
+    }
+
+    private static void receive(DatagramChannel rx, List<Long> sequences, List<Long> ticks, List<Byte> states) {
+        ByteBuffer buf = ByteBuffer.allocateDirect(2048).order(ByteOrder.LITTLE_ENDIAN);
+        DatagramCodec codec = new DatagramCodec();
+        CommandFrame f = new CommandFrame(JOINTS);
+        while (!Thread.currentThread().isInterrupted()) {
+            try {
+                buf.clear();
+                if (rx.receive(buf) == null) {
+                    Thread.onSpinWait();
+                    continue;
+                }
+                buf.flip();
+                if (codec.decodeCommand(buf, f) == DatagramStatus.ACCEPTED) {
+                    synchronized (sequences) {
+                        sequences.add(codec.sequence());
+                        ticks.add(f.tick);
+                        states.add(f.state);
+                    }
+                }
+            } catch (java.io.IOException e) {
+                return;
+            }
+        }
+        // drain what is left
+        try {
+            buf.clear();
+            while (rx.receive(buf) != null) {
+                buf.flip();
+                if (codec.decodeCommand(buf, f) == DatagramStatus.ACCEPTED) {
+                    sequences.add(codec.sequence());
+                    ticks.add(f.tick);
+                    states.add(f.state);
+                }
+                buf.clear();
+            }
+        } catch (java.io.IOException ignored) {
+            // the test asserts on what arrived
+        }
+    }
+}
