@@ -110,6 +110,49 @@ class RunCommandTest {
         }
     }
 
+    /**
+     * Invariant 5 on a signal: a separate JVM runs {@code weft run --arm} until it gets SIGTERM
+     * (what Ctrl-C's SIGINT also leads to: the shutdown hook); the telemetry file must then hold
+     * one row for every command the receiver got.
+     */
+    @Test
+    @Timeout(90)
+    void aSignalStopsTheRobotAndEveryTickReachesTheTelemetryFile() throws Exception {
+        try (DatagramChannel rx = DatagramChannel.open()) {
+            rx.setOption(StandardSocketOptions.SO_RCVBUF, 4 << 20);
+            rx.bind(new InetSocketAddress("127.0.0.1", 0));
+            rx.configureBlocking(false);
+            int port = ((InetSocketAddress) rx.getLocalAddress()).getPort();
+            Path cfg = writeConfig(port, "");
+            List<Long> sequences = new ArrayList<>();
+            List<Long> ticks = new ArrayList<>();
+            List<Byte> states = new ArrayList<>();
+            Thread receiver = new Thread(() -> receive(rx, sequences, ticks, states));
+            receiver.start();
+            String javaBin = Path.of(System.getProperty("java.home"), "bin", "java").toString();
+            Process p = new ProcessBuilder(javaBin, "-cp", System.getProperty("java.class.path"),
+                    WeftCommand.class.getName(), "run", cfg.toString(), "--arm")
+                    .redirectErrorStream(true).redirectOutput(dir.resolve("child.log").toFile()).start();
+            Path telemetry = dir.resolve("telemetry.csv");
+            long until = System.nanoTime() + 30_000_000_000L;
+            while (System.nanoTime() < until && (!Files.exists(telemetry) || Files.size(telemetry) < 50_000)) {
+                Thread.sleep(50);
+            }
+            p.destroy();
+            assertThat(p.waitFor(30, java.util.concurrent.TimeUnit.SECONDS)).isTrue();
+            Thread.sleep(300);
+            receiver.interrupt();
+            receiver.join();
+            String log = Files.readString(dir.resolve("child.log"));
+            assertThat(log).contains("weft run: stopping (controlled stop, then flush)");
+            List<String> rows = Files.readAllLines(telemetry);
+            assertThat(sequences.size()).as(log).isGreaterThan(100);
+            assertThat(rows).as("a row for every command sent; " + log).hasSize(sequences.size() + 1);
+            // the last rows are the controlled stop's: the robot ended at rest, disarmed
+            assertThat(rows.get(rows.size() - 1)).contains(",disarmed,");
+        }
+    }
+
     @Test
     void withoutArmOnlyHoldCommandsGoOut() throws Exception {
         try (DatagramChannel rx = DatagramChannel.open()) {

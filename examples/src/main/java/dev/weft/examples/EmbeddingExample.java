@@ -1,0 +1,182 @@
+package dev.weft.examples;
+
+import dev.weft.runtime.Weft;
+import dev.weft.runtime.loop.ControlLoop;
+import dev.weft.runtime.policy.Policy;
+import dev.weft.runtime.port.CommandFrame;
+import dev.weft.runtime.port.CommandPort;
+import dev.weft.safety.JointLimits;
+import java.util.Locale;
+import java.util.concurrent.atomic.AtomicBoolean;
+
+/**
+ * weft embedded in a controller process of your own, with a Java-coded policy, port and source.
+ *
+ * <p>The invented scene: a two-axis camera head ("pan" and "tilt") on a bench, whose driver
+ * thread reports joint angles every 2 ms and takes one position command per tick. The policy plans
+ * chunks of 20 steps that sweep the head toward a point of interest. Run it with
+ *
+ * <pre>mvn -q -pl examples -am install -DskipTests
+ * mvn -q -pl examples exec:java -Dexec.mainClass=dev.weft.examples.EmbeddingExample</pre>
+ */
+public final class EmbeddingExample {
+
+    private EmbeddingExample() {
+    }
+
+    /** What the run ended with. */
+    public record Outcome(String state, long ticks, double[] finalPose, long framesToDriver) {
+    }
+
+    /** The bench head's driver: takes commands from weft's port and reports its angles. */
+    static final class HeadDriver implements CommandPort {
+        private final double[] angle = new double[2];
+        private final double[] commanded = new double[2];
+        private volatile long frames;
+
+        @Override
+        public void open(int joints) {
+            if (joints != 2) {
+                throw new IllegalArgumentException("the head has 2 joints, not " + joints);
+            }
+        }
+
+        @Override
+        public boolean emit(CommandFrame frame) {
+            // copy what we need; never block: the loop's thread is calling
+            synchronized (commanded) {
+                commanded[0] = frame.positions[0];
+                commanded[1] = frame.positions[1];
+            }
+            frames++;
+            return true;
+        }
+
+        /** The driver's own 2 ms cycle: a stiff servo that reaches 20 % of the way each cycle. */
+        void cycle(double[] measuredOut) {
+            synchronized (commanded) {
+                for (int i = 0; i < 2; i++) {
+                    angle[i] += 0.2 * (commanded[i] - angle[i]);
+                }
+            }
+            measuredOut[0] = angle[0];
+            measuredOut[1] = angle[1];
+        }
+
+        @Override
+        public boolean faulted() {
+            return false;
+        }
+
+        @Override
+        public long emitted() {
+            return frames;
+        }
+
+        @Override
+        public long dropped() {
+            return 0;
+        }
+
+        @Override
+        public String describe() {
+            return "bench head driver, " + frames + " frames";
+        }
+
+        @Override
+        public void close() {
+        }
+    }
+
+    /** Plans 20 steps from the observed pose toward a point of interest, at most 0.01 rad a step. */
+    static final class LookAt implements Policy {
+        private final double[] goal;
+
+        LookAt(double[] goal) {
+            this.goal = goal.clone();
+        }
+
+        @Override
+        public int observationSize() {
+            return 2;
+        }
+
+        @Override
+        public int chunkLength() {
+            return 20;
+        }
+
+        @Override
+        public int actionSize() {
+            return 2;
+        }
+
+        @Override
+        public void infer(double[] observation, long tick, double[] chunk) {
+            for (int j = 0; j < 20; j++) {
+                for (int i = 0; i < 2; i++) {
+                    double step = Math.max(-0.01 * (j + 1), Math.min(0.01 * (j + 1), goal[i] - observation[i]));
+                    chunk[j * 2 + i] = observation[i] + step;
+                }
+            }
+        }
+
+        @Override
+        public void close() {
+        }
+    }
+
+    /** Runs the scene for {@code seconds} of arming and returns how it ended. */
+    public static Outcome run(double seconds) throws Exception {
+        JointLimits limits = JointLimits.builder()
+                .joint("pan", -2.5, 2.5, 1.5, 6.0, 60.0, 0.05)
+                .joint("tilt", -0.8, 1.2, 1.0, 4.0, 40.0, 0.05)
+                .build();
+        HeadDriver driver = new HeadDriver();
+        AtomicBoolean driving = new AtomicBoolean(true);
+        try (Weft weft = Weft.builder(limits, 0.002)
+                .policy(new LookAt(new double[] {0.6, 0.3}))
+                .port(driver)
+                .armingOffset(0.05)
+                .listener((tick, time, from, to, cause, message) ->
+                        System.out.printf(Locale.ROOT, "tick %d: %s -> %s (%s)%n", tick, from, to, message))
+                .build()) {
+            // the driver thread: one observation every 2 ms, on its own clock
+            Thread driverThread = new Thread(() -> {
+                double[] measured = new double[2];
+                while (driving.get()) {
+                    driver.cycle(measured);
+                    weft.offer(System.nanoTime(), measured);
+                    java.util.concurrent.locks.LockSupport.parkNanos(2_000_000);
+                }
+            }, "head-driver");
+            driverThread.start();
+            weft.start();
+            int armed;
+            long until = System.nanoTime() + 2_000_000_000L;
+            do {
+                armed = weft.arm();
+                Thread.sleep(5);
+            } while (armed == ControlLoop.ARM_REFUSED_NO_PLAN && System.nanoTime() < until);
+            System.out.println("arm: " + (armed == 0 ? "soft start" : Weft.describe(armed)));
+            Thread.sleep((long) (seconds * 1000));
+            weft.disarm();
+            while (weft.state() != dev.weft.safety.SupervisorState.DISARMED && weft.running()) {
+                Thread.sleep(5);
+            }
+            driving.set(false);
+            driverThread.join();
+            double[] pose = new double[2];
+            driver.cycle(pose);
+            return new Outcome(weft.state().name().toLowerCase(Locale.ROOT), weft.status().ticks(), pose,
+                    driver.emitted());
+        }
+    }
+
+    public static void main(String[] args) throws Exception {
+        double seconds = args.length > 0 ? Double.parseDouble(args[0]) : 3.0;
+        Outcome o = run(seconds);
+        System.out.printf(Locale.ROOT, "ended %s after %d ticks; head at pan %.3f rad, tilt %.3f rad%n", o.state(),
+                o.ticks(), o.finalPose()[0], o.finalPose()[1]);
+    }
+}
