@@ -161,9 +161,6 @@ public final class Weft implements AutoCloseable {
 
     /** The fixed message of a cause or refusal code. */
     public static String describe(int code) {
-        if (code == ControlLoop.ARM_REFUSED_NO_PLAN) {
-            return "arming refused: no plan covers the current tick yet";
-        }
         if (code == ControlLoop.COMMAND_TIMED_OUT) {
             return "the loop did not take the command in time";
         }

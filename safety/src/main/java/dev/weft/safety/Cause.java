@@ -32,6 +32,10 @@ public final class Cause {
     public static final int ARM_REFUSED_CONDITION = 33;
     /** Arming refused: the first planned action is non-finite or outside the operating range. */
     public static final int ARM_REFUSED_PLAN = 34;
+    /** Arming refused: no plan covers the current tick yet (reported by the runtime's loop). */
+    public static final int ARM_REFUSED_NO_PLAN = 35;
+    /** Arming refused: the measured pose is farther from the held command than the arming offset. */
+    public static final int ARM_REFUSED_DRIFT = 36;
     /** Reset refused: the supervisor is not faulted. */
     public static final int RESET_REFUSED_STATE = 40;
     /** Reset refused: the condition that caused the fault is still present. */
@@ -75,6 +79,10 @@ public final class Cause {
                 return "arming refused: a watchdog condition is present";
             case ARM_REFUSED_PLAN:
                 return "arming refused: first planned action is non-finite or outside the operating range";
+            case ARM_REFUSED_NO_PLAN:
+                return "arming refused: no plan covers the current tick yet";
+            case ARM_REFUSED_DRIFT:
+                return "arming refused: the measured pose is too far from the held pose";
             case RESET_REFUSED_STATE:
                 return "reset refused: not faulted";
             case RESET_REFUSED_CONDITION:

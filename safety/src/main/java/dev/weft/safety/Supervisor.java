@@ -18,7 +18,8 @@ package dev.weft.safety;
  *
  * <ul>
  *   <li>DISARMED and FAULTED send hold commands only (the limiter's stop, which is a hold at rest).</li>
- *   <li>ARMING starts at the measured pose and follows the plan under limits scaled down by the
+ *   <li>ARMING starts at the last command (the held pose, at rest), so the emitted command
+ *   sequence stays within its bounds across the switch, and follows the plan under limits scaled down by the
  *   arming factors; it is refused when the first planned action is farther from the measured pose
  *   than the configured offset. Once every joint is within the arming tolerance of the target the
  *   state carries over, unchanged, to the full-limit limiter: ARMED.</li>
@@ -165,8 +166,12 @@ public final class Supervisor {
             for (int i = 0; i < joints && refusal == 0; i++) {
                 double m = measuredPosition[i];
                 double p = firstPlannedAction[i];
+                double held = main.position(i);
                 if (!(Double.isFinite(m) && m >= limits.operatingMin(i) && m <= limits.operatingMax(i))) {
                     refusal = Cause.ARM_REFUSED_POSE;
+                    refusedJoint = i;
+                } else if (!(Math.abs(m - held) <= maxArmingOffset[i])) {
+                    refusal = Cause.ARM_REFUSED_DRIFT;
                     refusedJoint = i;
                 } else if (!(Double.isFinite(p) && p >= limits.operatingMin(i) && p <= limits.operatingMax(i))) {
                     refusal = Cause.ARM_REFUSED_PLAN;
@@ -176,7 +181,9 @@ public final class Supervisor {
                     refusedJoint = i;
                 }
             }
-            if (refusal == 0 && !(soft.reset(measuredPosition) && main.reset(measuredPosition))) {
+            // the soft start begins where the commands are (the held pose, at rest), never at the
+            // measured pose: a jump between the two would break the bounds of the emitted sequence
+            if (refusal == 0 && !soft.resetFrom(main)) {
                 refusal = Cause.ARM_REFUSED_POSE;
             }
         }

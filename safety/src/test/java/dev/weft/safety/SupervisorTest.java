@@ -295,6 +295,42 @@ class SupervisorTest {
     }
 
     @Test
+    void theSoftStartBeginsAtTheHeldPoseSoTheCommandsStayWithinBoundsAcrossArming() {
+        // held at the initial pose; the sensors read a little off it (noise, a settled offset)
+        double[] held = {0.0, 0.1};
+        Rig r = new Rig(StopCategory.CATEGORY_2, held);
+        for (int k = 0; k < 10; k++) {
+            r.step(0);
+        }
+        double[] measured = {0.06, 0.04};
+        double[] first = new double[2];
+        plan(r.tick + 1, first);
+        assertThat(r.sup.arm(r.tick, r.tick * NS, measured, first)).isZero();
+        r.step(0);
+        // the first command of the soft start is one bounded step from the held pose, not a jump
+        // to the measured one (6 cm in one 1 ms tick would be 60 m/s)
+        assertThat(Math.abs(r.cmd[0] - held[0])).isLessThan(1e-6);
+        while (r.sup.state() == SupervisorState.ARMING) {
+            r.step(0);
+        }
+        assertThat(r.sup.state()).isEqualTo(SupervisorState.ARMED);
+        assertThat(r.checker.violations).as(r.checker.firstViolation).isZero();
+    }
+
+    @Test
+    void armingIsRefusedWhenTheMeasuredPoseIsFarFromTheHeldPose() {
+        Rig r = new Rig(StopCategory.CATEGORY_2, new double[] {0, 0});
+        r.step(0);
+        // the rig allows 0.5 between measured pose and plan, and so between measured and held pose
+        assertThat(r.sup.arm(1, NS, new double[] {0.0, 0.6}, new double[] {0.0, 0.6}))
+                .isEqualTo(Cause.ARM_REFUSED_DRIFT);
+        assertThat(r.sup.refusedJoint()).isEqualTo(1);
+        assertThat(Cause.message(Cause.ARM_REFUSED_DRIFT))
+                .isEqualTo("arming refused: the measured pose is too far from the held pose");
+        assertThat(r.sup.state()).isEqualTo(SupervisorState.DISARMED);
+    }
+
+    @Test
     void armingTimesOutIntoAFault() {
         double[] pose = {0.3, -0.2};
         TransitionLog log = new TransitionLog(8);

@@ -57,7 +57,7 @@ public final class ControlLoop implements AutoCloseable {
     private static final int CMD_RESET = 3;
 
     /** {@link #arm} result: there was no plan covering the current tick to arm toward. */
-    public static final int ARM_REFUSED_NO_PLAN = 35;
+    public static final int ARM_REFUSED_NO_PLAN = Cause.ARM_REFUSED_NO_PLAN;
     /** Result of a command the loop did not carry out within the caller's timeout. */
     public static final int COMMAND_TIMED_OUT = -1;
     /** Result of a command given when the loop is not running. */
