@@ -206,6 +206,23 @@ public final class ConfiguredRun {
      */
     public Weft.Builder builder(Policy policy, CommandPort port, dev.weft.runtime.loop.LoopClock clock, double[] initialPose)
             throws BadInputException {
+        Weft.Builder b = builderWithoutSource(policy, port);
+        ObservationSource source = source(policy, port, clock, initialPose);
+        if (source != null) {
+            b.source(source);
+        }
+        if (port instanceof SimPort sp && sp.plant() == null) {
+            // a sim port whose plant nobody observes: it still follows the commands
+            sp.attach(initialPose != null ? initialPose : restPose(), config.timing().controlPeriod());
+        }
+        return b;
+    }
+
+    /**
+     * The builder with every configured part but the source, which the caller supplies (a dry
+     * run reads a recording or a simulated plant instead of the configured source).
+     */
+    public Weft.Builder builderWithoutSource(Policy policy, CommandPort port) {
         TimingConfig t = config.timing();
         double period = t.controlPeriod();
         Weft.Builder b = Weft.builder(limits, period)
@@ -221,14 +238,6 @@ public final class ConfiguredRun {
                 .queryEveryTicks(t.schedule() == TimingConfig.QuerySchedule.FIXED ? t.everyTicks() : 0)
                 .spinWindow(t.spinWindow());
         config.telemetry().file().ifPresent(b::telemetry);
-        ObservationSource source = source(policy, port, clock, initialPose);
-        if (source != null) {
-            b.source(source);
-        }
-        if (port instanceof SimPort sp && sp.plant() == null) {
-            // a sim port whose plant nobody observes: it still follows the commands
-            sp.attach(initialPose != null ? initialPose : restPose(), period);
-        }
         return b;
     }
 

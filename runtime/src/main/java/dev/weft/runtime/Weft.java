@@ -268,6 +268,7 @@ public final class Weft implements AutoCloseable {
         private long maxTicks;
         private int[] positionIndex;
         private long firstObservationTimeout = TimeUnit.SECONDS.toNanos(5);
+        private boolean armWhenPlanned;
 
         private Builder(JointLimits limits, double period) {
             if (limits == null) {
@@ -392,6 +393,16 @@ public final class Weft implements AutoCloseable {
             return this;
         }
 
+        /**
+         * Arms by itself at the first tick that has a plan and follows a tick free of watchdog
+         * conditions, instead of waiting for {@link Weft#arm()}. A live run arms only when told
+         * to; a dry run uses this so that it arms at the same tick every time.
+         */
+        public Builder armWhenPlanned(boolean on) {
+            this.armWhenPlanned = on;
+            return this;
+        }
+
         /** How long {@link Weft#start()} waits for the first observation; default 5 s. */
         public Builder firstObservationTimeout(double seconds) {
             this.firstObservationTimeout = (long) (seconds * 1e9);
@@ -455,7 +466,7 @@ public final class Weft implements AutoCloseable {
             TransitionListener tl = relay == null ? TransitionListener.NONE : relay;
             LoopSettings settings = new LoopSettings(periodNanos, queryEvery,
                     positionIndex != null ? positionIndex : LoopSettings.leadingPositions(joints), maxTicks,
-                    firstObservationTimeout, TimeUnit.SECONDS.toNanos(10));
+                    firstObservationTimeout, TimeUnit.SECONDS.toNanos(10), armWhenPlanned);
             long timeoutTicks = Math.max(1, Math.round(armingTimeout / period));
             ControlLoop loop = new ControlLoop(clock, ws, settings, src, inf, b, smoother, w,
                     pose -> Supervisor.builder(limits, period).stopCategory(stopCategory).maxArmingOffset(armingOffset)

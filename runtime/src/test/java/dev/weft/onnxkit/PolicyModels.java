@@ -92,6 +92,25 @@ public final class PolicyModels {
         return g.toBytes();
     }
 
+    /**
+     * A one-joint policy whose chunk is known in closed form: {@code obs [1, 1]} →
+     * {@code actions [1, K, 1]} with action {@code j = obs + j·slope}. For hand-checked runs.
+     */
+    public static byte[] rampPolicy(int k, double slope) {
+        OnnxGraph g = OnnxGraph.named("ramp_policy");
+        String x = g.input("obs", Element.FLOAT, 1, 1);
+        float[] ones = new float[k];
+        float[] offsets = new float[k];
+        for (int j = 0; j < k; j++) {
+            ones[j] = 1f;
+            offsets[j] = (float) (j * slope);
+        }
+        String row = g.add(g.matMul(x, g.floats("ones", ones, 1, k)), g.floats("offsets", offsets, 1, k));
+        g.reshapeNamed("actions", row, 1, k, 1);
+        g.output("actions", Element.FLOAT, 1, k, 1);
+        return g.toBytes();
+    }
+
     /** Observation {@code obs [1, O]} → flat chunk {@code actions [1, K·D]}. */
     public static Built flatChunkPolicy(int obs, int hidden, int k, int d, long seed) {
         Mlp mlp = Mlp.random(obs, hidden, k * d, seed);

@@ -9,7 +9,6 @@ import dev.weft.runtime.policy.OnnxPolicy;
 import java.io.PrintWriter;
 import java.nio.file.Path;
 import java.util.Locale;
-import java.util.SplittableRandom;
 import java.util.concurrent.Callable;
 import org.HdrHistogram.Histogram;
 import picocli.CommandLine;
@@ -88,7 +87,7 @@ final class CheckCommand implements Callable<Integer> {
             for (WatchdogConfig.Disabled d : c.watchdog().disabled()) {
                 out.printf("warning        watchdog condition %s is switched off: %s%n", d.condition().label(), d.reason());
             }
-            Histogram h = measure(policy, runs);
+            Histogram h = dev.weft.runtime.policy.LatencyProbe.measure(policy, runs);
             double p50 = h.getValueAtPercentile(50) / 1e9;
             double p99 = h.getValueAtPercentile(99) / 1e9;
             double max = h.getMaxValue() / 1e9;
@@ -116,22 +115,5 @@ final class CheckCommand implements Callable<Integer> {
         } finally {
             out.flush();
         }
-    }
-
-    /** Inference latency over {@code runs} calls with seeded observations, in nanoseconds. */
-    static Histogram measure(OnnxPolicy policy, int runs) {
-        Histogram h = new Histogram(60_000_000_000L, 3);
-        double[] obs = new double[policy.observationSize()];
-        double[] chunk = new double[policy.chunkLength() * policy.actionSize()];
-        SplittableRandom r = new SplittableRandom(1);
-        for (int i = 0; i < runs; i++) {
-            for (int j = 0; j < obs.length; j++) {
-                obs[j] = r.nextDouble() * 2 - 1;
-            }
-            long t0 = System.nanoTime();
-            policy.infer(obs, i, chunk);
-            h.recordValue(Math.min(System.nanoTime() - t0, h.getHighestTrackableValue()));
-        }
-        return h;
     }
 }

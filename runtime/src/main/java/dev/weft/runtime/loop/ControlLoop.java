@@ -85,6 +85,8 @@ public final class ControlLoop implements AutoCloseable {
     private final double[] measured;
     private final double[] target;
     private final double[] command;
+    private final double[] previousCommand;
+    private final double periodSeconds;
     private final CommandFrame frame;
     private final Sink sink = new Sink();
 
@@ -116,6 +118,8 @@ public final class ControlLoop implements AutoCloseable {
     private long newestOrigin = -1;
     private boolean nonFiniteThisTick;
     private long shutdownDeadline = -1;
+    private boolean autoArmPending;
+    private volatile int autoArmResult = Integer.MIN_VALUE;
 
     // published counters (written by the loop thread with release semantics)
     private final AtomicLong ticks = new AtomicLong();
@@ -169,6 +173,8 @@ public final class ControlLoop implements AutoCloseable {
         this.measured = new double[joints];
         this.target = new double[joints];
         this.command = new double[joints];
+        this.previousCommand = new double[joints];
+        this.periodSeconds = settings.periodNanos() / 1e9;
         this.frame = new CommandFrame(joints);
         primeRecorders();
     }
@@ -222,8 +228,18 @@ public final class ControlLoop implements AutoCloseable {
         }
         supervisor = supervisorFactory.apply(measured.clone());
         System.arraycopy(measured, 0, command, 0, joints);
+        System.arraycopy(measured, 0, previousCommand, 0, joints);
+        autoArmPending = settings.armWhenPlanned();
         running = true;
         t0 = clock.nanoTime();
+    }
+
+    /**
+     * With {@link LoopSettings#armWhenPlanned()}: 0 when the loop armed by itself, a refusal cause
+     * when it tried and was refused, {@link Integer#MIN_VALUE} while it has not tried yet.
+     */
+    public int autoArmResult() {
+        return autoArmResult;
     }
 
     private void run() {
@@ -296,6 +312,14 @@ public final class ControlLoop implements AutoCloseable {
             smoother.apply(target, target);
         }
 
+        if (autoArmPending && planned && watchdog.lastCode() == 0 && supervisor.state() == SupervisorState.DISARMED) {
+            autoArmPending = false;
+            for (int i = 0; i < joints; i++) {
+                measured[i] = observation[positionIndex[i]];
+            }
+            autoArmResult = supervisor.arm(n, deadline - t0, measured, target);
+        }
+
         // 7 watchdog (before the supervisor, so a fault seen at tick n shapes tick n's command)
         long inFlight = requestedAtNanos >= 0 ? start - requestedAtNanos : 0;
         long latency = Math.max(lastLatencyNanos, inFlight);
@@ -325,10 +349,15 @@ public final class ControlLoop implements AutoCloseable {
         boolean finite = true;
         for (int i = 0; i < joints; i++) {
             double q = command[i];
-            double v = supervisor.commandVelocity(i);
+            // the velocity sent is the finite difference of the commands, the quantity the
+            // limiter bounds; the limiter's internal continuous velocity can differ from it
+            double v = (q - previousCommand[i]) / periodSeconds;
             finite &= Double.isFinite(q) && Double.isFinite(v);
             frame.positions[i] = q;
             frame.velocities[i] = v;
+        }
+        if (finite) {
+            System.arraycopy(command, 0, previousCommand, 0, joints);
         }
         boolean emitted = finite && port.emit(frame);
         if (follower != null && finite) {
@@ -362,6 +391,9 @@ public final class ControlLoop implements AutoCloseable {
                 row.emitted = emitted;
                 System.arraycopy(target, 0, row.target, 0, joints);
                 System.arraycopy(command, 0, row.command, 0, joints);
+                for (int i = 0; i < joints; i++) {
+                    row.jointFlags[i] = supervisor.limiterFlags(i);
+                }
                 telemetry.publish();
             }
         }

@@ -9,9 +9,11 @@ package dev.weft.runtime.loop;
  * @param maxTicks stop after this many ticks (0 = run until shut down)
  * @param firstObservationTimeoutNanos how long {@link ControlLoop#start} waits for the first observation
  * @param shutdownStopTimeoutNanos how long a shutdown waits for the controlled stop to reach standstill
+ * @param armWhenPlanned arm at the first tick that has a plan and follows a tick free of watchdog
+ *     conditions (deterministic: the same tick on every run of a virtual-time dry run)
  */
 public record LoopSettings(long periodNanos, int queryEveryTicks, int[] positionIndex, long maxTicks,
-                           long firstObservationTimeoutNanos, long shutdownStopTimeoutNanos) {
+                           long firstObservationTimeoutNanos, long shutdownStopTimeoutNanos, boolean armWhenPlanned) {
     public LoopSettings {
         if (periodNanos <= 0) {
             throw new IllegalArgumentException("control period must be > 0 ns, got " + periodNanos);

@@ -41,7 +41,10 @@ public final class CommandFrame {
     public int limiterFlags;
     /** Commanded joint positions (radians or metres). */
     public final double[] positions;
-    /** Commanded joint velocities, the finite difference of positions (per second). */
+    /**
+     * Commanded joint velocities: the finite difference {@code (q[n] − q[n−1]) / Δc} of the
+     * commanded positions (per second), which the limiter keeps within the velocity bound.
+     */
     public final double[] velocities;
 
     public CommandFrame(int joints) {

@@ -8,12 +8,12 @@ import java.util.List;
  *
  * <pre>
  * tick,time_s,period_error_us,compute_us,state,watchdog,limiter,plan_ticks,chunk_age_ticks,emitted,
- *   target.&lt;joint&gt;…,command.&lt;joint&gt;…
+ *   target.&lt;joint&gt;…,command.&lt;joint&gt;…,limiter.&lt;joint&gt;…
  * </pre>
  *
  * {@code state} is the supervisor state's name in lower case, {@code watchdog} the bit mask of the
  * conditions present (bit {@code code − 1}), {@code limiter} the or-ed limiter flags, {@code emitted}
- * 1 when the port accepted the frame. Values are written in Java's shortest round-trip form.
+ * 1 when the port accepted the frame, {@code limiter.<joint>} each joint's limiter flags. Values are written in Java's shortest round-trip form.
  */
 public final class TelemetryFormat implements CsvRecorder.Format<TelemetryRow> {
 
@@ -47,6 +47,9 @@ public final class TelemetryFormat implements CsvRecorder.Format<TelemetryRow> {
         for (String j : joints) {
             out.append(",command.").append(j);
         }
+        for (String j : joints) {
+            out.append(",limiter.").append(j);
+        }
     }
 
     @Override
@@ -66,6 +69,9 @@ public final class TelemetryFormat implements CsvRecorder.Format<TelemetryRow> {
         }
         for (double v : r.command) {
             out.append(',').append(v);
+        }
+        for (int f : r.jointFlags) {
+            out.append(',').append(f);
         }
     }
 }

@@ -28,9 +28,12 @@ public final class TelemetryRow {
     public final double[] target;
     /** The command sent. */
     public final double[] command;
+    /** The limiter's flags per joint ({@code dev.weft.safety.JerkLimiter} bits). */
+    public final int[] jointFlags;
 
     public TelemetryRow(int joints) {
         target = new double[joints];
         command = new double[joints];
+        jointFlags = new int[joints];
     }
 }

@@ -99,7 +99,7 @@ final class LoopFixture {
         port.open(joints);
         JointLimits limits = limits();
         LoopSettings settings = new LoopSettings(periodNanos, queryEvery, LoopSettings.leadingPositions(joints), maxTicks,
-                2_000_000_000L, 2_000_000_000L);
+                2_000_000_000L, 2_000_000_000L, false);
         return new ControlLoop(clock, wait, settings, source, worker, blender, null, watchdog,
                 pose -> Supervisor.builder(limits, period).maxArmingOffset(range).listener(transitions).build(pose),
                 StopCategory.CATEGORY_2, port, telemetry);
