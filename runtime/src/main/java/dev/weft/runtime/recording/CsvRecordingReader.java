@@ -1,13 +1,9 @@
 package dev.weft.runtime.recording;
 
 import dev.weft.runtime.BadInputException;
-import java.io.BufferedReader;
 import java.io.IOException;
 import java.io.InputStream;
-import java.io.InputStreamReader;
 import java.nio.charset.CharacterCodingException;
-import java.nio.charset.CodingErrorAction;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -40,10 +36,10 @@ final class CsvRecordingReader {
     static Recording read(Path file, String name, RecordingSpec spec) throws BadInputException {
         ProblemList problems = new ProblemList(name);
         int lineNo = 0;
-        try (BufferedReader in = open(file)) {
+        try (LineReader in = new LineReader(Files.newInputStream(file))) {
             String line;
             String[] header = null;
-            while ((line = in.readLine()) != null) {
+            while ((line = in.next()) != null) {
                 lineNo++;
                 if (lineNo == 1 && !line.isEmpty() && line.charAt(0) == '\uFEFF') {
                     line = line.substring(1);
@@ -78,7 +74,7 @@ final class CsvRecordingReader {
             double previousTime = 0;
             String previousTimeText = null;
             int previousTimeLine = 0;
-            while ((line = in.readLine()) != null) {
+            while ((line = in.next()) != null) {
                 lineNo++;
                 if (skipped(line)) {
                     continue;
@@ -134,13 +130,6 @@ final class CsvRecordingReader {
         } catch (IOException e) {
             throw new BadInputException(name, "cannot be read: " + e.getMessage());
         }
-    }
-
-    private static BufferedReader open(Path file) throws IOException {
-        InputStream raw = Files.newInputStream(file);
-        return new BufferedReader(new InputStreamReader(raw, StandardCharsets.UTF_8.newDecoder()
-                .onMalformedInput(CodingErrorAction.REPORT)
-                .onUnmappableCharacter(CodingErrorAction.REPORT)), 1 << 16);
     }
 
     /** Blank lines and comment lines (first non-space character {@code #}) carry no sample. */
