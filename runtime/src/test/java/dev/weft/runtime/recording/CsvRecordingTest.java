@@ -220,4 +220,33 @@ class CsvRecordingTest {
         }
         assertThat(r.time(n - 1)).isEqualTo((n - 1) * 0.002);
     }
+
+    @Test
+    void theErrorExamplesInTheConfigurationDocsAreWhatTheReaderSays() throws Exception {
+        String doc = Files.readString(Path.of("..", "docs", "configuration.md"));
+        RecordingSpec spec = new RecordingSpec(Optional.empty(), "time",
+                Columns.list(List.of("q.base", "q.shoulder", "q.elbow")),
+                Columns.list(List.of("cmd.base", "cmd.shoulder", "cmd.elbow")), 3, List.of("base", "shoulder", "elbow"));
+        StringBuilder b = new StringBuilder("time,q.base,q.shoulder,q.elbow,cmd.base,cmd.shoulder,cmd.elbow\n");
+        for (int line = 2; line <= 20; line++) {
+            double t = line == 14 ? 0.024 : line * 0.002;
+            String time = String.format(java.util.Locale.ROOT, "%.3f", t);
+            String row = switch (line) {
+                case 9 -> time + ",0,0,0,0,0";
+                case 12 -> time + ",0,0,0.3.1,0,0,0";
+                case 20 -> time + ",0,0,0,NaN,0,0";
+                default -> time + ",0,0,0,0,0,0";
+            };
+            b.append(row).append('\n');
+        }
+        Path bench = write("bench.csv", b.toString());
+        BadInputException e = catchThrowableOfType(() -> Recordings.read(bench, spec), BadInputException.class);
+        String shown = e.getMessage().replace(dir + java.io.File.separator, "").replace(System.lineSeparator(), "\n");
+        assertThat(doc).contains("```\n" + shown + "\n```");
+
+        RecordingSpec wrist = new RecordingSpec(Optional.empty(), "time",
+                Columns.list(List.of("q.base", "q.shoulder", "q.wrist")), spec.action(), 3, spec.jointNames());
+        BadInputException missing = catchThrowableOfType(() -> Recordings.read(bench, wrist), BadInputException.class);
+        assertThat(doc).contains("```\n" + missing.getMessage().replace(dir + java.io.File.separator, "") + "\n```");
+    }
 }
