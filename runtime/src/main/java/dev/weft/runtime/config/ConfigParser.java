@@ -9,6 +9,8 @@ import dev.weft.runtime.policy.InputBinding;
 import dev.weft.runtime.policy.OutputSpec;
 import dev.weft.runtime.policy.PolicySpec;
 import dev.weft.runtime.policy.SessionSettings;
+import dev.weft.runtime.recording.Columns;
+import dev.weft.runtime.recording.RecordingFormat;
 import java.math.BigDecimal;
 import java.math.MathContext;
 import java.nio.file.Files;
@@ -21,6 +23,8 @@ import java.util.List;
 import java.util.Locale;
 import java.util.Map;
 import java.util.Optional;
+import java.util.OptionalDouble;
+import java.util.OptionalLong;
 
 /**
  * The schema: walks the tree section by section, checks every key and the rules between keys, and
@@ -50,6 +54,9 @@ final class ConfigParser {
     private Double observationAgeMax;
     private Double planRemainingMin;
     private Double inferenceLatencyMax;
+    private Integer observationSize;
+    private Integer recordedObservationColumns;
+    private Integer recordedActionColumns;
 
     ConfigParser(YamlTree tree, Path baseDir) {
         this.r = new TreeReader(tree);
@@ -71,10 +78,14 @@ final class ConfigParser {
         EndpointConfig source = endpoint(root.section("source", true));
         EndpointConfig port = endpoint(root.section("port", true));
         TelemetryConfig telemetry = telemetry(root.section("telemetry", false), root.has("telemetry"));
+        Optional<RecordingConfig> recording = recording(root.section("recording", false), root.has("recording"));
+        GatesConfig gates = gates(root.section("gates", false), root.has("gates"));
         root.done();
+        recordingChecks();
         crossChecks();
         r.finish();
-        return new WeftConfig(robot, timing, policy, blending, smoothing, watchdog, arming, source, port, telemetry);
+        return new WeftConfig(robot, timing, policy, blending, smoothing, watchdog, arming, source, port, telemetry,
+                recording, gates);
     }
 
     // ---- robot
@@ -213,6 +224,7 @@ final class ConfigParser {
             }
         }
         Integer observationSize = s.count("observation_size", null, 1);
+        this.observationSize = observationSize;
         Map<String, InputBinding> inputs = new LinkedHashMap<>();
         Section in = s.section("inputs", true);
         if (in != null) {
@@ -567,6 +579,178 @@ final class ConfigParser {
         }
         s.done();
         return r.count() == before ? new TelemetryConfig(file) : null;
+    }
+
+    // ---- recording and gates
+
+    /** Null when the section is given with a problem; empty when it is left out. */
+    private Optional<RecordingConfig> recording(Section s, boolean given) {
+        if (s == null) {
+            return given ? null : Optional.empty();
+        }
+        int before = r.count();
+        RecordingFormat format = s.has("format")
+                ? s.choice("format", RecordingFormat.values(), RecordingFormat::label, null) : null;
+        String time = s.text("time", null);
+        Columns observation = columns(s, "observation", format);
+        if (observation != null && !observation.matrix()) {
+            recordedObservationColumns = observation.names().size();
+        }
+        Columns action = columns(s, "action", format);
+        if (action != null && !action.matrix()) {
+            recordedActionColumns = action.names().size();
+        }
+        s.done();
+        if (r.count() != before) {
+            return null;
+        }
+        return Optional.of(new RecordingConfig(Optional.ofNullable(format), time, observation, action));
+    }
+
+    /** A list of column names or dataset paths, or (not for CSV) one dataset path; null with a problem. */
+    private Columns columns(Section s, String key, RecordingFormat format) {
+        JsonNode n = s.get(key, true);
+        if (n == null) {
+            return null;
+        }
+        String path = s.pathOf(key);
+        if (n.isArray()) {
+            if (n.isEmpty()) {
+                s.problem(key, "must name at least one column");
+                return null;
+            }
+            int before = r.count();
+            List<String> names = new ArrayList<>();
+            Map<String, String> firstByName = new HashMap<>();
+            for (int i = 0; i < n.size(); i++) {
+                String at = KeyPath.index(path, i);
+                String name = columnName(at, n.get(i));
+                if (name == null) {
+                    continue;
+                }
+                String first = firstByName.putIfAbsent(name, at);
+                if (first != null) {
+                    r.add(at, "\"" + name + "\" is already named by " + first);
+                }
+                names.add(name);
+            }
+            return r.count() == before ? Columns.list(names) : null;
+        }
+        if (n.isObject()) {
+            s.problem(key, "must be a list of column names or dataset paths, or one 2-D dataset path (HDF5), got a map");
+            return null;
+        }
+        String one = columnName(path, n);
+        if (one == null) {
+            return null;
+        }
+        if (format == RecordingFormat.CSV) {
+            s.problem(key, "must be a list of column names with format csv (one name stands for a 2-D HDF5 "
+                    + "dataset), got \"" + one + "\"");
+            return null;
+        }
+        return Columns.matrix(one);
+    }
+
+    /** Text as written (a number or true/false counts as its text), not blank; null with a problem. */
+    private String columnName(String path, JsonNode n) {
+        if (n == null || n.isNull() || n.isObject() || n.isArray()) {
+            r.add(path, "must be a column name or dataset path, got " + r.describe(path, n));
+            return null;
+        }
+        String s = n.isTextual() ? n.textValue() : r.describe(path, n);
+        if (s.isBlank()) {
+            r.add(path, "must not be empty");
+            return null;
+        }
+        return s;
+    }
+
+    /** Null when the section is given with a problem; the defaults when it is left out. */
+    private GatesConfig gates(Section s, boolean given) {
+        if (s == null) {
+            return given ? null : GatesConfig.DEFAULTS;
+        }
+        int before = r.count();
+        List<Double> rms = perJoint(s, "rms_error_max");
+        List<Double> max = perJoint(s, "max_error_max");
+        Long stops = s.whole("stops_max", 0L, 0, Long.MAX_VALUE);
+        Long starved = s.whole("starved_ticks_max", 0L, 0, Long.MAX_VALUE);
+        Double p99 = s.has("inference_p99_max") ? s.positive("inference_p99_max", null) : null;
+        Long stale = s.has("stale_dropped_max") ? s.whole("stale_dropped_max", null, 0, Long.MAX_VALUE) : null;
+        if (s.has("bound_violations_max")) {
+            s.get("bound_violations_max", false);
+            s.problem("bound_violations_max", "cannot be configured: a dry run in which any command leaves the "
+                    + "limiter's bounds always fails");
+        }
+        s.done();
+        if (r.count() != before || rms == null || max == null) {
+            return null;
+        }
+        return new GatesConfig(rms, max, stops, starved,
+                p99 == null ? OptionalDouble.empty() : OptionalDouble.of(p99),
+                stale == null ? OptionalLong.empty() : OptionalLong.of(stale));
+    }
+
+    /**
+     * One number {@code >= 0} for every joint, or a list of them in joint order; an empty list when
+     * the key is left out; null with a problem, or when the number of joints is not known.
+     */
+    private List<Double> perJoint(Section s, String key) {
+        JsonNode n = s.get(key, false);
+        if (n == null) {
+            return s.has(key) ? null : List.of();
+        }
+        String path = s.pathOf(key);
+        if (n.isArray()) {
+            if (jointCount != null && n.size() != jointCount) {
+                s.problem(key, "must have one number per joint (" + jointCount + " in robot.joints), got " + n.size());
+                return null;
+            }
+            List<Double> out = new ArrayList<>();
+            for (int i = 0; i < n.size(); i++) {
+                Double v = atLeastZero(KeyPath.index(path, i), n.get(i));
+                if (v != null) {
+                    out.add(v);
+                }
+            }
+            return out.size() == n.size() && jointCount != null ? out : null;
+        }
+        if (!n.isNumber()) {
+            s.problem(key, "must be a number or a list of numbers (one per joint), got " + r.describe(path, n));
+            return null;
+        }
+        Double v = atLeastZero(path, n);
+        if (v == null || jointCount == null) {
+            return null;
+        }
+        return Collections.nCopies(jointCount, v);
+    }
+
+    private Double atLeastZero(String path, JsonNode n) {
+        if (n == null || n.isNull()) {
+            r.add(path, "must be a number, got no value");
+            return null;
+        }
+        Double v = r.finite(path, n);
+        if (v != null && v < 0) {
+            r.add(path, "must be >= 0, got " + r.describe(path, n));
+            return null;
+        }
+        return v;
+    }
+
+    /** The recording's column counts against the policy's observation size and the number of joints. */
+    private void recordingChecks() {
+        if (recordedObservationColumns != null && observationSize != null
+                && !recordedObservationColumns.equals(observationSize)) {
+            r.add("recording.observation", "must name one column per observation value (policy.observation_size = "
+                    + observationSize + "), got " + recordedObservationColumns);
+        }
+        if (recordedActionColumns != null && jointCount != null && !recordedActionColumns.equals(jointCount)) {
+            r.add("recording.action", "must name one column per joint, in joint order (" + jointCount
+                    + " in robot.joints), got " + recordedActionColumns);
+        }
     }
 
     // ---- rules between sections

@@ -8,10 +8,15 @@ import java.nio.charset.CharacterCodingException;
 import java.nio.file.Files;
 import java.nio.file.NoSuchFileException;
 import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Optional;
+import dev.weft.runtime.recording.RecordingSpec;
 
 /**
  * One run's configuration, read from one YAML file: the robot, timing, the policy, blending,
- * smoothing, the watchdog, arming, the observation source, the command port and telemetry.
+ * smoothing, the watchdog, arming, the observation source, the command port, telemetry, and for
+ * dry runs the layout of recordings and the gates a dry run is judged by.
  * Every key and its unit is described in {@code docs/configuration.md}.
  *
  * <p>Reading checks the whole file before returning: every problem (a wrong type, a value out of
@@ -31,10 +36,14 @@ import java.nio.file.Path;
  * @param source the observation source
  * @param port the command port
  * @param telemetry telemetry recording
+ * @param recording where recordings keep their values, or empty when the file has no {@code recording}
+ *     section (a dry run needs one)
+ * @param gates the thresholds a dry run is judged by ({@link GatesConfig#DEFAULTS} when not given)
  */
 public record WeftConfig(RobotConfig robot, TimingConfig timing, PolicySpec policy, BlendingConfig blending,
                          SmoothingConfig smoothing, WatchdogConfig watchdog, ArmingConfig arming, EndpointConfig source,
-                         EndpointConfig port, TelemetryConfig telemetry) {
+                         EndpointConfig port, TelemetryConfig telemetry, Optional<RecordingConfig> recording,
+                         GatesConfig gates) {
 
     /** Spin window when none is configured (capped at half the control period), in seconds. */
     public static final double DEFAULT_SPIN_WINDOW = 0.0002;
@@ -47,9 +56,18 @@ public record WeftConfig(RobotConfig robot, TimingConfig timing, PolicySpec poli
 
     public WeftConfig {
         if (robot == null || timing == null || policy == null || blending == null || smoothing == null
-                || watchdog == null || arming == null || source == null || port == null || telemetry == null) {
+                || watchdog == null || arming == null || source == null || port == null || telemetry == null
+                || recording == null || gates == null) {
             throw new IllegalArgumentException("every section of a configuration must be given");
         }
+    }
+
+    /** A configuration with no {@code recording} section and the default gates. */
+    public WeftConfig(RobotConfig robot, TimingConfig timing, PolicySpec policy, BlendingConfig blending,
+                      SmoothingConfig smoothing, WatchdogConfig watchdog, ArmingConfig arming, EndpointConfig source,
+                      EndpointConfig port, TelemetryConfig telemetry) {
+        this(robot, timing, policy, blending, smoothing, watchdog, arming, source, port, telemetry, Optional.empty(),
+                GatesConfig.DEFAULTS);
     }
 
     /**
@@ -105,5 +123,25 @@ public record WeftConfig(RobotConfig robot, TimingConfig timing, PolicySpec poli
     /** A fresh reader of {@code source.options}, for the source of {@code source.kind}. */
     public PortOptions sourceOptions() {
         return source.reader();
+    }
+
+    /**
+     * What {@link dev.weft.runtime.recording.Recordings#read} needs to read a recording for this
+     * configuration: the {@code recording} section with the policy's observation size and the
+     * joint names in action order.
+     *
+     * @return the spec, or empty when the file has no {@code recording} section
+     */
+    public Optional<RecordingSpec> recordingSpec() {
+        if (recording.isEmpty()) {
+            return Optional.empty();
+        }
+        RecordingConfig c = recording.get();
+        List<String> joints = new ArrayList<>();
+        for (JointConfig j : robot.joints()) {
+            joints.add(j.name());
+        }
+        return Optional.of(new RecordingSpec(c.format(), c.time(), c.observation(), c.action(),
+                policy.observationSize(), joints));
     }
 }
