@@ -59,7 +59,7 @@ public final class BuildDemo {
     /** Samples the glitch lasts (0.05 s, one query period). */
     public static final int GLITCH_SAMPLES = 5;
     /** What the glitch adds to the measured position, rad. */
-    public static final double GLITCH_SIZE = 0.45;
+    public static final double GLITCH_SIZE = 0.8;
     /** The first lost sample's time, seconds. */
     public static final double DROPOUT_TIME = 7.01;
     /** Samples lost (the row after 7.00 s is 7.13 s). */
@@ -88,15 +88,7 @@ public final class BuildDemo {
 
     /** The episode of that name as the recorder logs it, faults included. */
     public static Episode episode(String name) {
-        List<String> all = new ArrayList<>(TRAINING);
-        all.add(HELD_OUT);
-        all.add(FAULT);
-        int index = all.indexOf(name);
-        if (index < 0) {
-            throw new IllegalArgumentException("no demo episode is called " + name);
-        }
-        ExpertScript script = ExpertScript.forEpisode(SEED + index + 1);
-        Episode e = EpisodeRecorder.record(name, script, SEED + 1000 + index + 1);
+        Episode e = recorded(name);
         if (name.equals(FAULT)) {
             e = e.withPositionGlitch(GLITCH_JOINT, sample(GLITCH_TIME), GLITCH_SAMPLES, GLITCH_SIZE)
                     .withDropout(sample(DROPOUT_TIME), DROPOUT_SAMPLES);
@@ -104,12 +96,30 @@ public final class BuildDemo {
         return e;
     }
 
-    /** The expert's script of a demo episode. */
-    public static ExpertScript script(String name) {
+    /** The episode of that name before any fault is written into it. */
+    static Episode recorded(String name) {
+        int index = names().indexOf(name);
+        if (index < 0) {
+            throw new IllegalArgumentException("no demo episode is called " + name);
+        }
+        return EpisodeRecorder.record(name, ExpertScript.forEpisode(SEED + index + 1), SEED + 1000 + index + 1);
+    }
+
+    /** Every episode's name: training, held out, fault. */
+    public static List<String> names() {
         List<String> all = new ArrayList<>(TRAINING);
         all.add(HELD_OUT);
         all.add(FAULT);
-        return ExpertScript.forEpisode(SEED + all.indexOf(name) + 1);
+        return List.copyOf(all);
+    }
+
+    /** The expert's script of a demo episode. */
+    public static ExpertScript script(String name) {
+        int index = names().indexOf(name);
+        if (index < 0) {
+            throw new IllegalArgumentException("no demo episode is called " + name);
+        }
+        return ExpertScript.forEpisode(SEED + index + 1);
     }
 
     /** Writes every demo file under {@code demo} (created when missing). */
@@ -118,10 +128,7 @@ public final class BuildDemo {
         Files.createDirectories(recordings);
         Files.createDirectories(demo.resolve(MODEL).getParent());
         List<Path> files = new ArrayList<>();
-        List<String> names = new ArrayList<>(TRAINING);
-        names.add(HELD_OUT);
-        names.add(FAULT);
-        for (String name : names) {
+        for (String name : names()) {
             Path file = recordings.resolve(name + ".csv");
             RecordingCsv.write(episode(name), file);
             files.add(file);

@@ -45,8 +45,12 @@ public final class ChunkRegression {
     public static final int FEATURES = HISTORY_DEPTH * OBSERVATION + 1;
     /** Targets per row: K actions of D joints. */
     public static final int TARGETS = K * DipCell.D;
-    /** The ridge penalty λ. */
-    public static final double LAMBDA = 1e-3;
+    /**
+     * The ridge penalty λ: small against the 3510 training rows (the held-out error is within 2 %
+     * of what λ = 0.001 gives), large enough to keep the normal equations well conditioned
+     * (condition number about 2e5 instead of 1e7).
+     */
+    public static final double LAMBDA = 0.1;
 
     private ChunkRegression() {
     }

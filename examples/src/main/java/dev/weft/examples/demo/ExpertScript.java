@@ -106,6 +106,14 @@ public final class ExpertScript {
         return new ExpertScript(poses, dwells);
     }
 
+    /** A script through {@code poses}, dwelling {@code dwells.get(i)} seconds at pose {@code i} (0 for none). */
+    static ExpertScript through(List<double[]> poses, List<Double> dwells) {
+        if (poses.size() != dwells.size() || poses.isEmpty()) {
+            throw new IllegalArgumentException("one dwell per pose, at least one pose");
+        }
+        return new ExpertScript(poses, dwells);
+    }
+
     /** Length of the script, seconds: the last pose is held from then on. */
     public double duration() {
         return end;
