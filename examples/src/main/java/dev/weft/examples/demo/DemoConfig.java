@@ -1,5 +1,7 @@
 package dev.weft.examples.demo;
 
+import java.math.BigDecimal;
+import java.math.RoundingMode;
 import java.util.List;
 
 /**
@@ -90,7 +92,7 @@ public final class DemoConfig {
 
     /** A number as short plain text, rounded to 9 decimals (0.24, not 0.24000000000000002). */
     static String num(double v) {
-        return java.math.BigDecimal.valueOf(v).setScale(9, java.math.RoundingMode.HALF_EVEN).stripTrailingZeros()
+        return BigDecimal.valueOf(v).setScale(9, RoundingMode.HALF_EVEN).stripTrailingZeros()
                 .toPlainString();
     }
 

@@ -7,6 +7,7 @@ import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.List;
+import java.util.stream.Stream;
 
 /**
  * The demo's recording files: one CSV per episode, a header row, comma separated, {@code \n}
@@ -36,7 +37,7 @@ public final class RecordingCsv {
 
     /** Observation column names in observation order: positions, then velocities. */
     public static List<String> observationColumns() {
-        return java.util.stream.Stream.concat(DipCell.jointNames().stream().map(j -> "q." + j),
+        return Stream.concat(DipCell.jointNames().stream().map(j -> "q." + j),
                 DipCell.jointNames().stream().map(j -> "dq." + j)).toList();
     }
 
