@@ -15,7 +15,8 @@ import picocli.CommandLine.Command;
             Caution.LINE_3,
             ""
         },
-        subcommands = {InspectCommand.class, CheckCommand.class, RunCommand.class, CommandLine.HelpCommand.class},
+        subcommands = {InspectCommand.class, CheckCommand.class, RunCommand.class, DryRunCommand.class, DemoCommand.class,
+            CommandLine.HelpCommand.class},
         exitCodeListHeading = "%nExit codes:%n",
         exitCodeList = {
             "0:done",
@@ -47,6 +48,10 @@ public final class WeftCommand implements Runnable {
     }
 
     public static void main(String[] args) {
+        // the HDF5 reader logs every file it opens; the command line keeps that out of the way
+        if (System.getProperty("org.slf4j.simpleLogger.log.io.jhdf") == null) {
+            System.setProperty("org.slf4j.simpleLogger.log.io.jhdf", "warn");
+        }
         System.exit(commandLine().execute(args));
     }
 
