@@ -92,8 +92,8 @@ final class HistogramPlot {
 
         double y = base + 48;
         double x = LEFT;
-        x = SvgParts.legendSwatch(m, x, y, "samples per bin (bin width " + Markup.figure(h.width(), 3) + " ms)",
-                "#b9c9d6");
+        x = SvgParts.legendSwatch(m, x, y, "samples per bin (bin width " + Markup.figure(h.width(), 3) + " ms"
+                + (h.nonFinite() > 0 ? "; " + h.nonFinite() + " non-finite left out" : "") + ")", "#b9c9d6");
         if (marks != null) {
             x = SvgParts.legendLine(m, x, y, "median (p50)", SvgParts.BLUE, "1.6", SvgParts.DASH_P50);
             x = SvgParts.legendLine(m, x, y, "99th percentile", SvgParts.VERMILLION, "1.6", SvgParts.DASH_P99);

@@ -208,4 +208,24 @@ final class Synthetic {
     static Run run() {
         return new Run();
     }
+
+    /** The episode with joint {@code j}'s trace replaced (summary unchanged). */
+    static HtmlReport.Episode withJoint(HtmlReport.Episode e, int j, DryRunTrace.JointTrace joint) {
+        DryRunTrace t = e.trace();
+        List<DryRunTrace.JointTrace> joints = new ArrayList<>(t.joints());
+        joints.set(j, joint);
+        return new HtmlReport.Episode(e.summary(), new DryRunTrace(t.timeSeconds(), joints, t.states(),
+                t.watchdogMasks(), t.inferenceLatencyMs(), t.periodErrorMs()));
+    }
+
+    /** A copy of the joint trace with other limiter flags. */
+    static DryRunTrace.JointTrace withFlags(DryRunTrace.JointTrace j, int[] flags) {
+        return new DryRunTrace.JointTrace(j.name(), j.lower(), j.upper(), j.recorded(), j.target(), j.command(), flags);
+    }
+
+    /** A copy of the joint trace with another command series. */
+    static DryRunTrace.JointTrace withCommand(DryRunTrace.JointTrace j, double[] command) {
+        return new DryRunTrace.JointTrace(j.name(), j.lower(), j.upper(), j.recorded(), j.target(), command,
+                j.limiterFlags());
+    }
 }
