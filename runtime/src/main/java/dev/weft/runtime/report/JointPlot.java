@@ -169,11 +169,18 @@ final class JointPlot {
                 Markup.coord(top + LANE_HEIGHT - 3), "text-anchor", "end");
         m.text(lane.label()).close("text");
         String fill = lane.fill().equals("solid") ? SvgParts.GREEN : "url(#" + id + "-" + lane.fill() + ")";
-        for (int[] run : SvgParts.runs(SvgParts.columnsWith(time, flags, lane.bits(), f, COLUMNS))) {
-            m.empty("rect", "class", "limit limit-" + lane.kind(), "x", Integer.toString(LEFT + run[0]),
-                    "y", Markup.coord(top + 1), "width", Integer.toString(run[1] - run[0]),
-                    "height", Integer.toString(LANE_HEIGHT - 2), "fill", fill, "stroke", SvgParts.INK,
-                    "stroke-width", "0.5");
+        // all bands of a lane in one path: one filled shape per lane keeps the file small, and keeps
+        // printing fast (a PDF printer may render each pattern-filled shape on its own)
+        List<int[]> runs = SvgParts.runs(SvgParts.columnsWith(time, flags, lane.bits(), f, COLUMNS));
+        if (!runs.isEmpty()) {
+            StringBuilder d = new StringBuilder(runs.size() * 24);
+            for (int[] run : runs) {
+                d.append('M').append(LEFT + run[0]).append(' ').append(Markup.coord(top + 1))
+                        .append('h').append(run[1] - run[0]).append('v').append(LANE_HEIGHT - 2)
+                        .append('h').append(run[0] - run[1]).append('z');
+            }
+            m.empty("path", "class", "limit limit-" + lane.kind(), "d", d.toString(), "fill", fill,
+                    "stroke", SvgParts.INK, "stroke-width", "0.5");
         }
         if (ticks == 0) {
             m.openWith("text", "class", "lane-none", "x", Integer.toString(LEFT + 4), "y",

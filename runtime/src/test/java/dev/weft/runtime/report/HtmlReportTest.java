@@ -156,24 +156,24 @@ class HtmlReportTest {
         List<Element> figures = jointFigures(d);
 
         Element j0 = figures.get(0);
-        List<Element> velocity = Xhtml.all(j0, ".//rect" + Xhtml.hasClass("limit-velocity"));
+        List<double[]> velocity = Xhtml.bands(Xhtml.one(j0, ".//path" + Xhtml.hasClass("limit-velocity")));
         assertThat(velocity).hasSize(1);
-        double x = Xhtml.number(velocity.get(0), "x");
-        double w = Xhtml.number(velocity.get(0), "width");
+        double x = velocity.get(0)[0];
+        double w = velocity.get(0)[1];
         assertThat(x).isBetween(jointX(500 * Synthetic.PERIOD, tEnd) - 1, jointX(500 * Synthetic.PERIOD, tEnd));
         assertThat(x + w).isBetween(jointX(600 * Synthetic.PERIOD, tEnd) - 1, jointX(600 * Synthetic.PERIOD, tEnd) + 1);
-        List<Element> jerk = Xhtml.all(j0, ".//rect" + Xhtml.hasClass("limit-jerk"));
+        List<double[]> jerk = Xhtml.bands(Xhtml.one(j0, ".//path" + Xhtml.hasClass("limit-jerk")));
         assertThat(jerk).hasSize(1);
-        assertThat(Xhtml.number(jerk.get(0), "width")).isGreaterThanOrEqualTo(1);
-        assertThat(Xhtml.number(jerk.get(0), "x")).isCloseTo(jointX(1500 * Synthetic.PERIOD, tEnd),
+        assertThat(jerk.get(0)[1]).isGreaterThanOrEqualTo(1);
+        assertThat(jerk.get(0)[0]).isCloseTo(jointX(1500 * Synthetic.PERIOD, tEnd),
                 org.assertj.core.data.Offset.offset(1.0));
-        assertThat(Xhtml.all(j0, ".//rect" + Xhtml.hasClass("limit-fault"))).hasSize(1);
-        assertThat(Xhtml.all(j0, ".//rect" + Xhtml.hasClass("limit-position"))).isEmpty();
-        assertThat(Xhtml.all(j0, ".//rect" + Xhtml.hasClass("limit-acceleration"))).isEmpty();
+        assertThat(Xhtml.bands(Xhtml.one(j0, ".//path" + Xhtml.hasClass("limit-fault")))).hasSize(1);
+        assertThat(Xhtml.all(j0, ".//*" + Xhtml.hasClass("limit-position"))).isEmpty();
+        assertThat(Xhtml.all(j0, ".//*" + Xhtml.hasClass("limit-acceleration"))).isEmpty();
         assertThat(j0.getTextContent()).contains("velocity 100, acceleration 0, jerk 1; limiter fault flags on 1 ticks");
 
         Element j1 = figures.get(1);
-        assertThat(Xhtml.all(j1, ".//rect" + Xhtml.hasClass("limit"))).isEmpty();
+        assertThat(Xhtml.all(j1, ".//*" + Xhtml.hasClass("limit"))).isEmpty();
         assertThat(Xhtml.all(j1, ".//text" + Xhtml.hasClass("lane-none"))).hasSize(4);
         // the fault lane appears only for a joint whose limiter raised a fault flag
         assertThat(Xhtml.all(j1, ".//g" + Xhtml.hasClass("lane-fault"))).isEmpty();

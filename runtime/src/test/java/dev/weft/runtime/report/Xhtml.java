@@ -75,6 +75,25 @@ final class Xhtml {
         return Double.parseDouble(e.getAttribute(attribute));
     }
 
+    /** The bands of a limiter lane's path ("Mx yhWvHh-Wz" each) as {x, width} pairs. */
+    static List<double[]> bands(Element path) {
+        List<double[]> out = new ArrayList<>();
+        java.util.regex.Matcher m = java.util.regex.Pattern
+                .compile("M([-0-9.]+) [-0-9.]+h([-0-9.]+)v[-0-9.]+h-[0-9.]+z").matcher(path.getAttribute("d"));
+        int end = 0;
+        while (m.find()) {
+            if (m.start() != end) {
+                throw new AssertionError("unexpected path data " + path.getAttribute("d"));
+            }
+            end = m.end();
+            out.add(new double[] {Double.parseDouble(m.group(1)), Double.parseDouble(m.group(2))});
+        }
+        if (end != path.getAttribute("d").length()) {
+            throw new AssertionError("unexpected path data " + path.getAttribute("d"));
+        }
+        return out;
+    }
+
     /** The coordinates of an SVG path written by {@code MinMaxDecimator.pathData}: pairs after M or spaces. */
     static List<double[]> points(String d) {
         List<double[]> out = new ArrayList<>();
