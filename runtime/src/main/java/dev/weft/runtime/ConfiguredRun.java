@@ -44,8 +44,11 @@ public final class ConfiguredRun {
     /** Source kinds a configuration may name. */
     public static final List<String> SOURCE_KINDS = List.of("embedded", "udp", "sim");
 
-    /** Soft-start time budget when {@code arming.ramp_time} is not given, seconds. */
-    public static final double DEFAULT_RAMP_TIME = 10.0;
+    /** Soft-start ramp when {@code arming.ramp_time} is not given, seconds. */
+    public static final double DEFAULT_RAMP_TIME = 1.0;
+
+    /** How long after its ramp a soft start may still chase the plan before it is a fault, seconds. */
+    public static final double ARMING_GRACE = 10.0;
 
     private final WeftConfig config;
     private final JointLimits limits;
@@ -187,6 +190,11 @@ public final class ConfiguredRun {
         return Ports.provider(config.port().kind(), "port.kind").live();
     }
 
+    /** The soft start's ramp, seconds. */
+    public double rampTime() {
+        return config.arming().rampTime() > 0 ? config.arming().rampTime() : DEFAULT_RAMP_TIME;
+    }
+
     /** A pose inside every joint's operating range: 0 where allowed, else the nearest bound. */
     public double[] restPose() {
         double[] pose = new double[limits.count()];
@@ -234,7 +242,8 @@ public final class ConfiguredRun {
                 .watchdog(watchdog())
                 .stopCategory(config.arming().stopCategory() == 1 ? StopCategory.CATEGORY_1 : StopCategory.CATEGORY_2)
                 .armingOffset(config.arming().poseDistanceMax())
-                .armingTimeout(config.arming().rampTime() > 0 ? config.arming().rampTime() : DEFAULT_RAMP_TIME)
+                .armingRamp(rampTime())
+                .armingTimeout(rampTime() + ARMING_GRACE)
                 .queryEveryTicks(t.schedule() == TimingConfig.QuerySchedule.FIXED ? t.everyTicks() : 0)
                 .spinWindow(t.spinWindow());
         config.telemetry().file().ifPresent(b::telemetry);

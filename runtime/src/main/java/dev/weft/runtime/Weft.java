@@ -257,7 +257,8 @@ public final class Weft implements AutoCloseable {
         private Watchdog watchdog;
         private StopCategory stopCategory = StopCategory.CATEGORY_2;
         private double armingOffset = 0.1;
-        private double armingTimeout = 10.0;
+        private double armingTimeout = 11.0;
+        private double armingRamp = 1.0;
         private int queryEvery;
         private double spinWindow = 0.0002;
         private Path telemetryFile;
@@ -346,7 +347,16 @@ public final class Weft implements AutoCloseable {
             return this;
         }
 
-        /** Seconds the soft start may take before it is a fault; default 10. */
+        /**
+         * Seconds over which the soft start blends its target from the held pose to the plan,
+         * under a quarter of each bound; default 1. 0 chases the plan directly.
+         */
+        public Builder armingRamp(double seconds) {
+            this.armingRamp = seconds;
+            return this;
+        }
+
+        /** Seconds the soft start may take before it is a fault; default 11. */
         public Builder armingTimeout(double seconds) {
             this.armingTimeout = seconds;
             return this;
@@ -468,9 +478,10 @@ public final class Weft implements AutoCloseable {
                     positionIndex != null ? positionIndex : LoopSettings.leadingPositions(joints), maxTicks,
                     firstObservationTimeout, TimeUnit.SECONDS.toNanos(10), armWhenPlanned);
             long timeoutTicks = Math.max(1, Math.round(armingTimeout / period));
+            long rampTicks = Math.max(0, Math.round(armingRamp / period));
             ControlLoop loop = new ControlLoop(clock, ws, settings, src, inf, b, smoother, w,
                     pose -> Supervisor.builder(limits, period).stopCategory(stopCategory).maxArmingOffset(armingOffset)
-                            .armingTimeoutTicks(timeoutTicks).listener(tl).build(pose),
+                            .armingTimeoutTicks(timeoutTicks).armingRampTicks(rampTicks).listener(tl).build(pose),
                     stopCategory, port, rec);
             return new Weft(this, loop, src, embedded, inf, rec, relay);
         }

@@ -45,6 +45,9 @@ public final class Supervisor {
     private final double[] maxArmingOffset;
     private final double armingTolerance;
     private final long armingTimeoutTicks;
+    private final long armingRampTicks;
+    private final double[] armStart;
+    private final double[] rampTarget;
     private final TransitionListener listener;
     private final int joints;
 
@@ -68,6 +71,9 @@ public final class Supervisor {
         this.maxArmingOffset = b.maxArmingOffset.clone();
         this.armingTolerance = b.armingTolerance;
         this.armingTimeoutTicks = b.armingTimeoutTicks;
+        this.armingRampTicks = b.armingRampTicks;
+        this.armStart = new double[b.limits.count()];
+        this.rampTarget = new double[b.limits.count()];
         this.listener = b.listener;
         if (initialPose == null || initialPose.length != joints) {
             throw new IllegalArgumentException("supervisor: initial pose must have length " + joints);
@@ -194,6 +200,7 @@ public final class Supervisor {
         powerRemovalRequested = false;
         disarmRequested = false;
         armingTicks = 0;
+        main.position(armStart);
         transition(tick, timeNanos, SupervisorState.ARMING, Cause.ARM_REQUEST);
         return 0;
     }
@@ -254,11 +261,21 @@ public final class Supervisor {
                     startStop(tick, timeNanos, fault != 0 ? fault : Cause.DISARM_REQUEST, command, true);
                 } else {
                     active = soft;
-                    lastFlags = soft.apply(target, command);
                     armingTicks++;
+                    double[] goal = target;
+                    if (armingRampTicks > 0 && armingTicks < armingRampTicks) {
+                        // the soft start's own target: from the held pose to the plan, linearly over the ramp
+                        double f = (double) armingTicks / armingRampTicks;
+                        for (int i = 0; i < joints; i++) {
+                            rampTarget[i] = armStart[i] + f * (target[i] - armStart[i]);
+                        }
+                        goal = rampTarget;
+                    }
+                    lastFlags = soft.apply(goal, command);
                     if ((lastFlags & JerkLimiter.FAULT_FLAGS) != 0) {
                         startStopNextTick(tick, timeNanos, Cause.LIMITER_FAULT, true);
-                    } else if (withinTolerance(target)) {
+                    } else if (armingRampTicks > 0 ? armingTicks >= armingRampTicks && withinOffset(target)
+                            : withinTolerance(target)) {
                         if (main.resetFrom(soft)) {
                             transition(tick, timeNanos, SupervisorState.ARMED, Cause.ARMING_COMPLETE);
                         } else {
@@ -298,6 +315,15 @@ public final class Supervisor {
                 break;
         }
         return state;
+    }
+
+    private boolean withinOffset(double[] target) {
+        for (int i = 0; i < joints; i++) {
+            if (!(Math.abs(soft.position(i) - target[i]) <= maxArmingOffset[i])) {
+                return false;
+            }
+        }
+        return true;
     }
 
     private boolean withinTolerance(double[] target) {
@@ -369,6 +395,7 @@ public final class Supervisor {
         private double[] maxArmingOffset;
         private double armingTolerance = 1e-3;
         private long armingTimeoutTicks;
+        private long armingRampTicks;
         private TransitionListener listener = TransitionListener.NONE;
 
         private Builder(JointLimits limits, double period) {
@@ -440,6 +467,21 @@ public final class Supervisor {
                 throw new IllegalArgumentException("supervisor: arming timeout must be >= 1 tick, was " + ticks);
             }
             this.armingTimeoutTicks = ticks;
+            return this;
+        }
+
+        /**
+         * Ticks over which the soft start blends its target linearly from the held pose to the
+         * plan (&gt;= 0). With a ramp, the hand-over to full limits comes at the end of the ramp,
+         * once every joint is within the arming offset of the plan, so a moving plan can be
+         * armed onto; with 0 (the default) the soft start chases the plan directly and hands
+         * over within {@link #armingTolerance}.
+         */
+        public Builder armingRampTicks(long ticks) {
+            if (ticks < 0) {
+                throw new IllegalArgumentException("supervisor: arming ramp must be >= 0 ticks, was " + ticks);
+            }
+            this.armingRampTicks = ticks;
             return this;
         }
 

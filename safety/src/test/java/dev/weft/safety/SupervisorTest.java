@@ -331,6 +331,41 @@ class SupervisorTest {
     }
 
     @Test
+    void aRampArmsOntoAPlanMovingFasterThanTheSoftLimitsAllow() {
+        double[] pose = {0.0, 0.0};
+        TransitionLog log = new TransitionLog(16);
+        Supervisor sup = Supervisor.builder(limits(), DT).listener(log).maxArmingOffset(0.5)
+                .armingRampTicks(1000).armingTimeoutTicks(5000).build(pose);
+        BoundChecker checker = new BoundChecker(limits(), DT);
+        checker.start(pose, null, null);
+        double[] target = new double[2];
+        double[] cmd = new double[2];
+        // the plan sweeps the shoulder at 0.3 rad/s, above the soft start's 0.25 rad/s
+        java.util.function.LongConsumer plan = k -> {
+            target[0] = 0.1 + 0.3 * k * DT;
+            target[1] = 0.05;
+        };
+        plan.accept(0);
+        assertThat(sup.arm(0, 0, pose, target)).isZero();
+        long k = 0;
+        while (sup.state() == SupervisorState.ARMING && k < 5000) {
+            plan.accept(++k);
+            sup.step(k, k * NS, target, 0, cmd);
+            checker.accept(k, cmd);
+        }
+        assertThat(sup.state()).isEqualTo(SupervisorState.ARMED);
+        assertThat(k).as("hand-over at the end of the one-second ramp").isBetween(1000L, 1100L);
+        assertThat(log.cause(1)).isEqualTo(Cause.ARMING_COMPLETE);
+        for (int n = 0; n < 2000; n++) {
+            plan.accept(++k);
+            sup.step(k, k * NS, target, 0, cmd);
+            checker.accept(k, cmd);
+        }
+        assertThat(cmd[0]).as("following the plan under the full limits").isCloseTo(target[0], org.assertj.core.api.Assertions.within(0.02));
+        assertThat(checker.violations).as(checker.firstViolation).isZero();
+    }
+
+    @Test
     void armingTimesOutIntoAFault() {
         double[] pose = {0.3, -0.2};
         TransitionLog log = new TransitionLog(8);

@@ -104,13 +104,15 @@ final class DryRunCommand implements Callable<Integer> {
 
     /** One summary's verdict and headline figures. */
     static void printVerdict(PrintWriter out, DryRunSummary s) {
-        double worst = 0;
+        double worst = Double.NaN;
         for (double v : s.rmsError()) {
-            worst = Double.isFinite(v) ? Math.max(worst, v) : worst;
+            worst = Double.isNaN(worst) || v > worst ? v : worst;
         }
-        out.printf(Locale.ROOT, "%-9s %s: %d ticks, %d stops, %d bound violations, worst RMS error %.4f,"
+        out.printf(Locale.ROOT, "%-9s %s: %d ticks, %d stops, %d bound violations, worst RMS error %s,"
                         + " inference p99 %.3f ms (modelled as %d ticks)%n", s.passed() ? "PASS" : "FAIL", s.name(),
-                s.ticks(), s.stops().size(), s.boundViolations(), worst, s.inferenceMs().p99(), s.latencyTicks());
+                s.ticks(), s.stops().size(), s.boundViolations(),
+                Double.isNaN(worst) ? "n/a (never armed)" : String.format(Locale.ROOT, "%.4f", worst),
+                s.inferenceMs().p99(), s.latencyTicks());
         for (DryRunSummary.Gate g : s.gates()) {
             if (!g.passed()) {
                 out.printf(Locale.ROOT, "          gate %s failed: %s against %s%n", g.name(), fmt(g.value()),

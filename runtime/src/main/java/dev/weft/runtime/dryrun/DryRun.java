@@ -372,8 +372,11 @@ public final class DryRun {
                     now[j] = Double.parseDouble(f[firstPosition + j]);
                 }
                 if (row == 0) {
-                    for (int h = 0; h < 3; h++) {
-                        System.arraycopy(now, 0, q[h], 0, joints);
+                    // the limiter starts at rest at its first command: the samples before it equal it
+                    for (int h = 0; h < 4; h++) {
+                        if (q[h] != now) {
+                            System.arraycopy(now, 0, q[h], 0, joints);
+                        }
                     }
                 }
                 // q[2] = q[n], q[1] = q[n-1], q[0] = q[n-2], q[3] = q[n-3]
