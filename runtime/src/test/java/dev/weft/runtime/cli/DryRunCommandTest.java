@@ -1,0 +1,135 @@
+package dev.weft.runtime.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import dev.weft.onnxkit.PolicyModels;
+import java.net.InetSocketAddress;
+import java.nio.ByteBuffer;
+import java.nio.channels.DatagramChannel;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.List;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+class DryRunCommandTest {
+
+    @TempDir
+    Path dir;
+
+    private Path config(String port) throws Exception {
+        Files.write(dir.resolve("ramp.onnx"), PolicyModels.rampPolicy(8, 0.001));
+        return Files.writeString(dir.resolve("dry.yaml"), """
+                robot:
+                  name: hand-check
+                  joints:
+                    - {name: x, position: {min: -2, max: 2}, velocity: 1.5, acceleration: 10, jerk: 200}
+                timing:
+                  control_period: 0.01
+                  query: {schedule: fixed, every_ticks: 2}
+                policy:
+                  model: ramp.onnx
+                  observation_size: 1
+                  inputs:
+                    obs: {source: observation}
+                  output: {layout: 1xKxD}
+                watchdog:
+                  observation_age_max: 0.05
+                  inference_latency_max: 0.05
+                  overruns_max: 5
+                arming:
+                  pose_distance_max: 0.5
+                  ramp_time: 0.2
+                source: {kind: embedded}
+                port: %s
+                recording:
+                  time: time
+                  observation: [q.x]
+                  action: [a.x]
+                gates:
+                  rms_error_max: 0.05
+                """.formatted(port));
+    }
+
+    private Path recording(int samples) throws Exception {
+        StringBuilder b = new StringBuilder("time,q.x,a.x\n");
+        for (int k = 0; k < samples; k++) {
+            double q = 0.3 * Math.sin(0.5 * k * 0.01);
+            b.append(k * 0.01).append(',').append(q).append(',').append(q).append('\n');
+        }
+        return Files.writeString(dir.resolve("wave.csv"), b);
+    }
+
+    @Test
+    void aRecordingRunsToAPassingVerdictWithSummaryAndReport() throws Exception {
+        Path cfg = config("{kind: discard}");
+        Path rec = recording(400);
+        Path out = dir.resolve("out");
+        InspectCommandTest.Run r = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                "--report", out.toString(), "--latency-ticks", "2");
+        assertThat(r.err()).isEmpty();
+        assertThat(r.exit()).as(r.out()).isZero();
+        assertThat(r.out()).startsWith(Caution.LINE_1).contains("PASS      wave.csv: 400 ticks, 0 stops, 0 bound violations");
+        JsonNode s = new ObjectMapper().readTree(out.resolve("summary.json").toFile());
+        for (String key : List.of("ticks", "commands", "telemetry_rows", "bound_violations", "rms_error", "max_error",
+                "limit_active", "stale_dropped", "starved_ticks", "stops", "inference_ms", "verdict", "gates")) {
+            assertThat(s.has(key)).as(key).isTrue();
+        }
+        assertThat(s.get("ticks").asLong()).isEqualTo(400);
+        assertThat(s.get("commands").asLong()).isEqualTo(400);
+        assertThat(s.get("telemetry_rows").asLong()).isEqualTo(400);
+        assertThat(s.get("latency_ticks").asLong()).isEqualTo(2);
+        assertThat(s.get("verdict").asText()).isEqualTo("pass");
+        assertThat(s.get("limit_active").has("jerk")).isTrue();
+        assertThat(s.get("gates").findValuesAsText("name")).contains("bound_violations", "armed", "rms_error.x");
+        String html = Files.readString(out.resolve("report.html"));
+        assertThat(html).contains("PASS");
+        assertThat(html.indexOf("not a safety-rated")).isLessThan(html.indexOf("<svg"));
+    }
+
+    @Test
+    void aGateFromTheCommandLineCanFailTheRun() throws Exception {
+        Path cfg = config("{kind: discard}");
+        Path rec = recording(300);
+        InspectCommandTest.Run r = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                "--report", dir.resolve("strict").toString(), "--gate", "rms_error_max=0.000001");
+        assertThat(r.exit()).as(r.out()).isEqualTo(1);
+        assertThat(r.out()).contains("FAIL      wave.csv").contains("gate rms_error.x failed");
+        InspectCommandTest.Run bad = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                "--report", dir.resolve("x").toString(), "--gate", "rms=1");
+        assertThat(bad.exit()).isEqualTo(2);
+        assertThat(bad.err()).startsWith("weft dry-run: --gate: rms: no such gate");
+    }
+
+    @Test
+    void aMalformedRecordingIsRefusedNamingFileLineAndColumn() throws Exception {
+        Path cfg = config("{kind: discard}");
+        Path rec = Files.writeString(dir.resolve("bad.csv"), "time,q.x,a.x\n0.0,0.1,0.1\n0.01,oops,0.1\n");
+        InspectCommandTest.Run r = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                "--report", dir.resolve("o").toString());
+        assertThat(r.exit()).isEqualTo(2);
+        assertThat(r.err()).isEqualTo("weft dry-run: " + rec + " (line 3, column \"q.x\"): is not a decimal number: oops"
+                + System.lineSeparator());
+    }
+
+    @Test
+    void aLivePortIsNeverOpenedAndTheRunSaysSo() throws Exception {
+        try (DatagramChannel rx = DatagramChannel.open()) {
+            rx.bind(new InetSocketAddress("127.0.0.1", 0));
+            rx.configureBlocking(false);
+            int port = ((InetSocketAddress) rx.getLocalAddress()).getPort();
+            Path cfg = config("{kind: udp, options: {port: " + port + "}}");
+            Path rec = recording(200);
+            InspectCommandTest.Run r = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                    "--report", dir.resolve("live").toString());
+            assertThat(r.exit()).as(r.out() + r.err()).isZero();
+            assertThat(r.out()).contains("the configured port 'udp' is live: the dry run sends nothing to it and records"
+                    + " the commands to commands.csv instead");
+            Thread.sleep(100);
+            assertThat(rx.receive(ByteBuffer.allocate(2048))).as("nothing reached the live port").isNull();
+            assertThat(Files.readAllLines(dir.resolve("live/commands.csv"))).hasSize(201);
+        }
+    }
+}
