@@ -170,7 +170,7 @@ public final class BuildDemo {
     /** The fit summary's text. */
     static String summary(Result r) {
         StringBuilder b = new StringBuilder();
-        b.append("dip-and-shelve policy: ridge regression, ").append(ChunkRegression.FEATURES).append(" features (history of ")
+        b.append("dip-and-shelve policy: ridge regression of the change from holding the pose, ").append(ChunkRegression.FEATURES).append(" features (history of ")
                 .append(ChunkRegression.HISTORY_DEPTH).append(" x ").append(ChunkRegression.OBSERVATION)
                 .append(" observations and a 1) -> K = ").append(ChunkRegression.K).append(" actions x D = ")
                 .append(DipCell.D).append(", step ").append(DemoConfig.num(ChunkRegression.POLICY_STEP))

@@ -6,6 +6,7 @@ import static org.assertj.core.api.Assertions.within;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.dataformat.yaml.YAMLFactory;
+import dev.weft.filters.Interpolation;
 import dev.weft.runtime.config.JointConfig;
 import dev.weft.runtime.config.WeftConfig;
 import dev.weft.runtime.policy.InputBinding;
@@ -14,6 +15,7 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Locale;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -46,28 +48,12 @@ class BuildDemoTest {
         }
     }
 
-    /** demo.yaml without its {@code recording:} section, which this branch's parser does not know yet. */
-    static String withoutRecordingSection(String yaml) {
-        StringBuilder b = new StringBuilder();
-        boolean skipping = false;
-        for (String line : yaml.split("\n", -1)) {
-            boolean topLevel = !line.isEmpty() && !Character.isWhitespace(line.charAt(0)) && !line.startsWith("#");
-            if (topLevel) {
-                skipping = line.startsWith("recording:");
-            }
-            if (!skipping) {
-                b.append(line).append('\n');
-            }
-        }
-        return b.toString();
-    }
-
     @Test
     void theConfigurationIsAcceptedByWeftAndStatesTheExpertsLimits() throws Exception {
         Path file = SHIPPED.resolve(BuildDemo.CONFIG);
         String yaml = Files.readString(file);
         assertThat(yaml).contains("\nrecording:\n");
-        WeftConfig c = WeftConfig.parse(withoutRecordingSection(yaml), file.getParent(), file.toString());
+        WeftConfig c = WeftConfig.parse(yaml, file.getParent(), file.toString());
         List<JointConfig> joints = c.robot().joints();
         assertThat(c.robot().name()).isEqualTo(DipCell.ROBOT);
         assertThat(joints).hasSize(DipCell.D);
@@ -83,6 +69,12 @@ class BuildDemoTest {
         assertThat(c.policy().observationSize()).isEqualTo(ChunkRegression.OBSERVATION);
         assertThat(c.policy().inputs()).containsEntry(PolicyExport.INPUT,
                 new InputBinding.History(ChunkRegression.HISTORY_DEPTH));
+        // the values the demo's tests and the dry run rely on, as DemoConfig states them
+        assertThat(c.arming().poseDistanceMax()).isEqualTo(DemoConfig.POSE_DISTANCE_MAX);
+        assertThat(c.arming().rampTime()).isEqualTo(DemoConfig.RAMP_TIME);
+        assertThat(c.blending().interpolation()).isEqualTo(Interpolation.valueOf(DemoConfig.INTERPOLATION.toUpperCase(Locale.ROOT)));
+        assertThat(c.gates().rmsErrorMax()).hasSize(DipCell.D).containsOnly(DemoConfig.RMS_ERROR_MAX);
+        assertThat(c.recordingSpec()).isPresent();
         // the model the configuration names loads with the configuration's own binding
         try (OnnxPolicy p = OnnxPolicy.load(c.policy())) {
             assertThat(p.chunkLength()).isEqualTo(ChunkRegression.K);
@@ -113,7 +105,7 @@ class BuildDemoTest {
     void theFaultEpisodeHasTheGlitchAndADropoutLongerThanTheWatchdogAllows() throws Exception {
         Episode clean = BuildDemo.recorded(BuildDemo.FAULT);
         Episode e = RecordingCsv.read(SHIPPED.resolve(BuildDemo.RECORDINGS).resolve(BuildDemo.FAULT + ".csv"));
-        WeftConfig c = WeftConfig.parse(withoutRecordingSection(Files.readString(SHIPPED.resolve(BuildDemo.CONFIG))),
+        WeftConfig c = WeftConfig.parse(Files.readString(SHIPPED.resolve(BuildDemo.CONFIG)),
                 SHIPPED, "demo.yaml");
         // the largest gap between two samples is the dropout, and it outlasts the observation age bound
         double gap = 0;

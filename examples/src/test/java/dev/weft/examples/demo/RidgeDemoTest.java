@@ -33,8 +33,8 @@ class RidgeDemoTest {
     }
 
     /**
-     * Reference: ridge regression is ordinary least squares on the augmented system
-     * {@code [X; √λ I] W = [Y; 0]} (Hoerl and Kennard, Technometrics 12, 1970; the augmented form
+     * Reference for the residual weights {@code W_delta}: ridge regression is ordinary least
+     * squares on the augmented system {@code [X; √λ I] W_delta = [Y - X E; 0]} (Hoerl and Kennard, Technometrics 12, 1970; the augmented form
      * is the textbook identity, e.g. Hastie, Tibshirani and Friedman, The Elements of Statistical
      * Learning, 2nd ed., Exercise 3.12; from memory, and recomputed here), solved here by EJML's Householder-QR least-squares solver
      * ({@code LinearSolverFactory_DDRM.leastSquares}), which never forms the normal equations
@@ -42,7 +42,11 @@ class RidgeDemoTest {
      */
     static DMatrixRMaj reference(List<Episode> episodes, double lambda) {
         DMatrixRMaj x = ChunkRegression.design(episodes);
-        DMatrixRMaj y = ChunkRegression.targets(episodes);
+        // Y - X·E formed with EJML's product, not with the fit's own subtraction
+        DMatrixRMaj xe = new DMatrixRMaj(x.numRows, ChunkRegression.TARGETS);
+        CommonOps_DDRM.mult(x, ChunkRegression.holdPose(), xe);
+        DMatrixRMaj y = new DMatrixRMaj(x.numRows, ChunkRegression.TARGETS);
+        CommonOps_DDRM.subtract(ChunkRegression.targets(episodes), xe, y);
         int n = x.numRows;
         int f = ChunkRegression.FEATURES;
         DMatrixRMaj xa = new DMatrixRMaj(n + f, f);
@@ -63,10 +67,13 @@ class RidgeDemoTest {
     void theFitEqualsEjmlsLeastSquaresSolutionOfTheAugmentedSystem() {
         ChunkRegression.Fit fit = ChunkRegression.fit(training, ChunkRegression.LAMBDA);
         DMatrixRMaj w = reference(training, ChunkRegression.LAMBDA);
+        DMatrixRMaj e = ChunkRegression.holdPose();
         double worst = 0;
         for (int f = 0; f < ChunkRegression.FEATURES; f++) {
             for (int t = 0; t < ChunkRegression.TARGETS; t++) {
-                worst = Math.max(worst, Math.abs(fit.weight(f, t) - w.get(f, t)));
+                worst = Math.max(worst, Math.abs(fit.residualWeight(f, t) - w.get(f, t)));
+                // the exported weights are W_delta + E
+                worst = Math.max(worst, Math.abs(fit.weight(f, t) - (w.get(f, t) + e.get(f, t))));
             }
         }
         assertThat(worst).isLessThanOrEqualTo(TOLERANCE);
@@ -84,12 +91,52 @@ class RidgeDemoTest {
         double apart = 0;
         for (int f = 0; f < ChunkRegression.FEATURES; f++) {
             for (int t = 0; t < ChunkRegression.TARGETS; t++) {
-                worst = Math.max(worst, Math.abs(fit.weight(f, t) - w.get(f, t)));
+                worst = Math.max(worst, Math.abs(fit.residualWeight(f, t) - w.get(f, t)));
                 apart = Math.max(apart, Math.abs(small.get(f, t) - w.get(f, t)));
             }
         }
         assertThat(worst).isLessThanOrEqualTo(TOLERANCE);
         assertThat(apart).isGreaterThan(1e-3);
+    }
+
+    @Test
+    void holdPoseMapsEveryRowToTheCurrentPositionsInEveryAction() {
+        Episode e = training.get(1);
+        double[] f = new double[ChunkRegression.FEATURES];
+        for (int i : new int[] {0, 7, 400}) {
+            ChunkRegression.features(e, i, f);
+            for (int t = 0; t < ChunkRegression.TARGETS; t++) {
+                double s = 0;
+                for (int k = 0; k < ChunkRegression.FEATURES; k++) {
+                    s += f[k] * ChunkRegression.holdPose(k, t);
+                }
+                assertThat(s).as("row %d, target %d", i, t).isEqualTo(e.q(i, t % DipCell.D));
+            }
+        }
+        // row 300 of the training set is row 300 of its first episode: target minus that row's position
+        assertThat(ChunkRegression.residualTargets(training).get(300, 4 * DipCell.D + 3))
+                .isEqualTo(ChunkRegression.targets(training).get(300, 4 * DipCell.D + 3) - training.get(0).q(300, 3));
+    }
+
+    @Test
+    void aLargePenaltyShrinksTheChunkTowardHoldingThePoseNotTowardZero() {
+        // with W_delta pushed to almost zero, the policy holds the measured pose: the residual
+        // formulation's whole point; a fit of absolute targets would shrink toward 0 rad instead
+        ChunkRegression.Fit fit = ChunkRegression.fit(training, 1e9);
+        Episode e = training.get(2);
+        double[] f = new double[ChunkRegression.FEATURES];
+        double[] chunk = new double[ChunkRegression.TARGETS];
+        double worst = 0;
+        for (int i = 0; i < ChunkRegression.rowCount(e); i += 97) {
+            ChunkRegression.features(e, i, f);
+            fit.predict(f, chunk);
+            for (int t = 0; t < ChunkRegression.TARGETS; t++) {
+                worst = Math.max(worst, Math.abs(chunk[t] - e.q(i, t % DipCell.D)));
+            }
+        }
+        assertThat(worst).isLessThan(1e-3);
+        // and the arm is far from zero there, so this is not the absolute fit's shrinkage in disguise
+        assertThat(Math.abs(e.q(0, 2))).isGreaterThan(0.5);
     }
 
     @Test
