@@ -44,9 +44,9 @@ public final class DemoConfig {
     /**
      * {@code gates.rms_error_max}, rad, every joint: the clean episodes' dry runs reach 0.045 at
      * most (lift, dip-04) and the fault episode's armed part 0.043 to 0.056; holding the pose would give
-     * 0.10 on slew.
+     * 0.10 on slew. 0.08 leaves room for a slower machine whose measured latency models as two ticks.
      */
-    public static final double RMS_ERROR_MAX = 0.06;
+    public static final double RMS_ERROR_MAX = 0.08;
 
     private DemoConfig() {
     }

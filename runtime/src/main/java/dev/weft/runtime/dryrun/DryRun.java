@@ -96,8 +96,13 @@ public final class DryRun {
         if (!problems.isEmpty()) {
             throw new BadInputException(problems);
         }
+        // the latency is measured on an instance of its own: probing the run's policy would leave
+        // the probe's observations in its history and draw from its noise generator
+        long[] latencies;
+        try (OnnxPolicy probe = run.loadPolicy()) {
+            latencies = LatencyProbe.samples(probe, LATENCY_RUNS);
+        }
         OnnxPolicy policy = run.loadPolicy();
-        long[] latencies = LatencyProbe.samples(policy, LATENCY_RUNS);
         double[] latencyMs = new double[latencies.length];
         for (int i = 0; i < latencies.length; i++) {
             latencyMs[i] = latencies[i] / 1e6;
