@@ -56,7 +56,7 @@ class RunCommandTest {
                   overruns_max: 100
                 arming:
                   pose_distance_max: 0.5
-                  ramp_time: 5
+                  ramp_time: 0.5
                 source:
                   kind: sim
                 port:
