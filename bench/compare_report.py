@@ -193,7 +193,7 @@ def main(argv):
 
 
 def write_svg(path, series):
-    """Exceedance plot: fraction of wake-ups later than x, log-log axes."""
+    """Exceedance plot: fraction of wake-ups later than x, log-log axes (0 us is drawn at 1 us)."""
     import math
     w, h, left, right, top, bottom = 760, 440, 70, 250, 30, 50
     pw, ph = w - left - right, h - top - bottom
@@ -207,7 +207,8 @@ def write_svg(path, series):
     def sy(frac):
         return top + ph * (-(math.log10(max(frac, 10 ** y_lo)))) / (-y_lo)
 
-    colours = ["#1b6ca8", "#d1495b", "#2e933c", "#e59a1a", "#6a4c93", "#0f8b8d", "#8c564b", "#444444"]
+    colours = ["#1b6ca8", "#d1495b", "#2e933c", "#e59a1a", "#6a4c93", "#0f8b8d", "#8c564b", "#444444",
+               "#000000", "#b8860b", "#c71585", "#5f9ea0"]
     out = ['<svg xmlns="http://www.w3.org/2000/svg" width="%d" height="%d" font-family="sans-serif" '
            'font-size="12">' % (w, h), '<rect width="100%" height="100%" fill="white"/>']
     for e in range(int(math.ceil(x_hi)) + 1):
