@@ -137,7 +137,7 @@ public final class CsvPort implements CommandPort {
         @Override
         public void row(CommandFrame f, StringBuilder out) {
             out.append(f.tick).append(',').append(f.timeNanos / 1e9).append(',')
-                    .append(STATE_NAMES[f.state]).append(',').append((int) f.stopCategory).append(',')
+                    .append(dev.weft.runtime.telemetry.TelemetryFormat.stateName(f.state)).append(',').append((int) f.stopCategory).append(',')
                     .append(f.removePower ? '1' : '0').append(',').append(f.limiterFlags);
             for (double v : f.positions) {
                 out.append(',').append(v);
@@ -146,8 +146,6 @@ public final class CsvPort implements CommandPort {
                 out.append(',').append(v);
             }
         }
-
-        private static final String[] STATE_NAMES = {"disarmed", "arming", "armed", "stopping", "faulted"};
     }
 
     /** The {@code csv} kind: options {@code file} (required), {@code ring} (frames, a power of two). */

@@ -33,7 +33,10 @@ public final class TelemetryFormat implements CsvRecorder.Format<TelemetryRow> {
         this.joints = List.copyOf(jointNames);
     }
 
-    /** The state name used in the file for a supervisor state ordinal. */
+    /**
+     * The state name used in the files for a supervisor state ordinal, which is also the
+     * {@code CommandFrame.STATE_} code.
+     */
     public static String stateName(int ordinal) {
         return STATE_NAMES[ordinal];
     }

@@ -90,6 +90,44 @@ class DryRunCommandTest {
     }
 
     @Test
+    void closedLoopObservesThePlantWeftDrives() throws Exception {
+        Path cfg = config("{kind: discard}");
+        Path rec = recording(300);
+        Path out = dir.resolve("closed");
+        InspectCommandTest.Run r = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                "--report", out.toString(), "--closed-loop", "--latency-ticks", "1");
+        InspectCommandTest.Run open = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                "--report", dir.resolve("open").toString(), "--latency-ticks", "1");
+        assertThat(open.exit()).isZero();
+        JsonNode s = new ObjectMapper().readTree(out.resolve("summary.json").toFile());
+        assertThat(s.get("mode").asText()).isEqualTo("closed_loop");
+        assertThat(s.get("bound_violations").asLong()).isZero();
+        // the ramp policy plans from whatever it observes: on the recording it follows the sine
+        // (the open-loop run passes its gate); on the plant it only ever sees weft's own commands,
+        // so it drifts off the recorded reference and the error gate says so
+        assertThat(r.exit()).as(r.out()).isEqualTo(1);
+        assertThat(r.out()).contains("gate rms_error.x failed");
+        assertThat(Files.readAllLines(out.resolve("commands.csv")))
+                .isNotEqualTo(Files.readAllLines(dir.resolve("open/commands.csv")));
+    }
+
+    @Test
+    void realtimePacesTheLoopAndReportsPeriodError() throws Exception {
+        Path cfg = config("{kind: discard}");
+        Path rec = recording(50);
+        Path out = dir.resolve("rt");
+        InspectCommandTest.Run r = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                "--report", out.toString(), "--realtime");
+        assertThat(r.exit()).as(r.out() + r.err()).isIn(0, 1);
+        JsonNode s = new ObjectMapper().readTree(out.resolve("summary.json").toFile());
+        assertThat(s.get("realtime").asBoolean()).isTrue();
+        assertThat(s.get("latency_ticks").asLong()).isEqualTo(-1);
+        assertThat(s.has("period_error_ms")).isTrue();
+        assertThat(s.get("period_error_ms").get("max").asDouble()).isGreaterThanOrEqualTo(0.0);
+        assertThat(s.get("ticks").asLong()).isEqualTo(50);
+    }
+
+    @Test
     void aGateFromTheCommandLineCanFailTheRun() throws Exception {
         Path cfg = config("{kind: discard}");
         Path rec = recording(300);

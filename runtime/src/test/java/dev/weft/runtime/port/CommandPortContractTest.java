@@ -57,6 +57,17 @@ class CommandPortContractTest {
     }
 
     @Test
+    void frameStateCodesAreTheSupervisorStatesOrdinals() {
+        // the loop writes SupervisorState.ordinal() into CommandFrame.state; the codes must agree
+        assertThat(dev.weft.safety.SupervisorState.DISARMED.ordinal()).isEqualTo(CommandFrame.STATE_DISARMED);
+        assertThat(dev.weft.safety.SupervisorState.ARMING.ordinal()).isEqualTo(CommandFrame.STATE_ARMING);
+        assertThat(dev.weft.safety.SupervisorState.ARMED.ordinal()).isEqualTo(CommandFrame.STATE_ARMED);
+        assertThat(dev.weft.safety.SupervisorState.STOPPING.ordinal()).isEqualTo(CommandFrame.STATE_STOPPING);
+        assertThat(dev.weft.safety.SupervisorState.FAULTED.ordinal()).isEqualTo(CommandFrame.STATE_FAULTED);
+        assertThat(dev.weft.runtime.telemetry.TelemetryFormat.stateName(CommandFrame.STATE_STOPPING)).isEqualTo("stopping");
+    }
+
+    @Test
     void anUnknownKindNamesTheKnownOnes() {
         org.assertj.core.api.Assertions.assertThatThrownBy(() -> Ports.provider("can-bus", "port.kind"))
                 .hasMessage("port.kind: no port of kind 'can-bus' on the class path; known kinds: csv, discard, sim, udp");
