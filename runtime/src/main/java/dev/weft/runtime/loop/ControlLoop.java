@@ -328,14 +328,10 @@ public final class ControlLoop implements AutoCloseable {
                 (int) Math.min(consecutiveOverruns, Integer.MAX_VALUE), portFault, nonFiniteThisTick,
                 operatorStopRequested);
 
-        // 6 limiter, inside the supervisor: hold when disarmed or faulted, soft start, stop
-        SupervisorState s;
-        if (planned || supervisor.state() != SupervisorState.ARMED && supervisor.state() != SupervisorState.ARMING) {
-            s = supervisor.step(n, deadline - t0, planned ? target : command, code, command);
-        } else {
-            // no plan while moving: the watchdog reports starvation; the supervisor sees a hold target
-            s = supervisor.step(n, deadline - t0, command, code == 0 ? Cause.NON_FINITE_TARGET : code, command);
-        }
+        // 6 limiter, inside the supervisor: hold when disarmed or faulted, soft start, stop. Without
+        // a plan the target is NaN, which the supervisor treats as a fault while moving and ignores
+        // while holding, so starvation stops the robot even with PLAN_STARVED switched off.
+        SupervisorState s = supervisor.step(n, deadline - t0, target, code, command);
 
         // 8 emit (invariant 2: nothing non-finite reaches the port)
         frame.tick = n;

@@ -147,6 +147,35 @@ class ControlLoopTest {
     }
 
     @Test
+    void aPlanThatRunsOutStopsTheRobotEvenWithStarvationSwitchedOff() throws Exception {
+        LoopFixture f = new LoopFixture();
+        f.port = new RecordingPort();
+        f.source = new FixedSource(new double[3], f.clock);
+        f.queryEvery = 200;   // one chunk of 16 ticks every 200 ticks: the plan runs out in between
+        f.watchdog = dev.weft.safety.Watchdog.builder()
+                .maxInferenceLatencyNanos(1_000_000_000L).maxConsecutiveOverruns(1000)
+                .disable(WatchdogCondition.PLAN_STARVED, "test: the supervisor must stop on its own")
+                .disable(WatchdogCondition.PLAN_LOW, "test: the supervisor must stop on its own")
+                .build();
+        ControlLoop loop = f.build(LoopFixture.constantGoal(3, 16, 0.0));
+        loop.prepare();
+        runTicks(loop, 5);
+        int[] armed = {Cause.ARM_REFUSED_NO_PLAN};
+        // the plan covers only 16 of every 200 ticks: ask again until the request lands inside it
+        for (int attempt = 0; attempt < 50 && armed[0] == Cause.ARM_REFUSED_NO_PLAN; attempt++) {
+            Thread armer = new Thread(() -> armed[0] = loop.arm(5_000_000_000L));
+            armer.start();
+            while (armer.isAlive()) {
+                loop.runTick();
+            }
+        }
+        assertThat(armed[0]).as(Cause.message(armed[0])).isZero();
+        runTicks(loop, 400);
+        assertThat(loop.supervisor().state()).isEqualTo(SupervisorState.FAULTED);
+        assertThat(loop.supervisor().latchedCause()).isEqualTo(Cause.NON_FINITE_TARGET);
+    }
+
+    @Test
     void aStalledTickIsAnOverrunAndMissedDeadlinesAreSkippedNotCaughtUp() throws Exception {
         LoopFixture f = new LoopFixture();
         RecordingPort port = new RecordingPort();
