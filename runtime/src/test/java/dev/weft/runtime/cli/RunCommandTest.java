@@ -74,22 +74,14 @@ class RunCommandTest {
     @Test
     @Timeout(60)
     void armedRunSendsOneDatagramPerTickInOrderToALoopbackReceiver() throws Exception {
-        try (DatagramChannel rx = DatagramChannel.open()) {
-            rx.setOption(StandardSocketOptions.SO_RCVBUF, 4 << 20);
-            rx.bind(new InetSocketAddress("127.0.0.1", 0));
-            rx.configureBlocking(false);
-            int port = ((InetSocketAddress) rx.getLocalAddress()).getPort();
-            Path cfg = writeConfig(port, "");
-            List<Long> sequences = new ArrayList<>();
-            List<Long> ticks = new ArrayList<>();
-            List<Byte> states = new ArrayList<>();
-            Thread receiver = new Thread(() -> receive(rx, sequences, ticks, states));
-            receiver.start();
+        try (Receiver rx = new Receiver()) {
+            Path cfg = writeConfig(rx.port(), "");
+            List<Long> sequences = rx.sequences;
+            List<Long> ticks = rx.ticks;
+            List<Byte> states = rx.states;
             InspectCommandTest.Run r = InspectCommandTest.weft("run", cfg.toString(), "--arm", "--duration", "2",
                     "--status-every", "0.5");
-            Thread.sleep(300);
-            receiver.interrupt();
-            receiver.join();
+            rx.stopAfter(300);
             assertThat(r.out()).startsWith(Caution.LINE_1);
             assertThat(r.out()).contains("armed: soft start toward the plan");
             assertThat(r.exit()).as(r.out() + r.err()).isZero();
@@ -118,17 +110,11 @@ class RunCommandTest {
     @Test
     @Timeout(90)
     void aSignalStopsTheRobotAndEveryTickReachesTheTelemetryFile() throws Exception {
-        try (DatagramChannel rx = DatagramChannel.open()) {
-            rx.setOption(StandardSocketOptions.SO_RCVBUF, 4 << 20);
-            rx.bind(new InetSocketAddress("127.0.0.1", 0));
-            rx.configureBlocking(false);
-            int port = ((InetSocketAddress) rx.getLocalAddress()).getPort();
-            Path cfg = writeConfig(port, "");
-            List<Long> sequences = new ArrayList<>();
-            List<Long> ticks = new ArrayList<>();
-            List<Byte> states = new ArrayList<>();
-            Thread receiver = new Thread(() -> receive(rx, sequences, ticks, states));
-            receiver.start();
+        try (Receiver rx = new Receiver()) {
+            Path cfg = writeConfig(rx.port(), "");
+            List<Long> sequences = rx.sequences;
+            List<Long> ticks = rx.ticks;
+            List<Byte> states = rx.states;
             String javaBin = Path.of(System.getProperty("java.home"), "bin", "java").toString();
             Process p = new ProcessBuilder(javaBin, "-cp", System.getProperty("java.class.path"),
                     WeftCommand.class.getName(), "run", cfg.toString(), "--arm")
@@ -140,9 +126,7 @@ class RunCommandTest {
             }
             p.destroy();
             assertThat(p.waitFor(30, java.util.concurrent.TimeUnit.SECONDS)).isTrue();
-            Thread.sleep(300);
-            receiver.interrupt();
-            receiver.join();
+            rx.stopAfter(300);
             String log = Files.readString(dir.resolve("child.log"));
             assertThat(log).contains("weft run: stopping (controlled stop, then flush)");
             List<String> rows = Files.readAllLines(telemetry);
@@ -155,20 +139,13 @@ class RunCommandTest {
 
     @Test
     void withoutArmOnlyHoldCommandsGoOut() throws Exception {
-        try (DatagramChannel rx = DatagramChannel.open()) {
-            rx.bind(new InetSocketAddress("127.0.0.1", 0));
-            rx.configureBlocking(false);
-            int port = ((InetSocketAddress) rx.getLocalAddress()).getPort();
-            Path cfg = writeConfig(port, "");
-            List<Long> sequences = new ArrayList<>();
-            List<Long> ticks = new ArrayList<>();
-            List<Byte> states = new ArrayList<>();
-            Thread receiver = new Thread(() -> receive(rx, sequences, ticks, states));
-            receiver.start();
+        try (Receiver rx = new Receiver()) {
+            Path cfg = writeConfig(rx.port(), "");
+            List<Long> sequences = rx.sequences;
+            List<Long> ticks = rx.ticks;
+            List<Byte> states = rx.states;
             InspectCommandTest.Run r = InspectCommandTest.weft("run", cfg.toString(), "--duration", "0.5");
-            Thread.sleep(200);
-            receiver.interrupt();
-            receiver.join();
+            rx.stopAfter(200);
             assertThat(r.exit()).as(r.out() + r.err()).isZero();
             assertThat(r.out()).contains("not armed: hold commands only");
             assertThat(states).isNotEmpty().containsOnly(CommandFrame.STATE_DISARMED);
@@ -187,43 +164,76 @@ class RunCommandTest {
                 + "  robot.joints[2].jerk (line 6): must be > 0, got -2" + System.lineSeparator());
     }
 
-    private static void receive(DatagramChannel rx, List<Long> sequences, List<Long> ticks, List<Byte> states) {
-        ByteBuffer buf = ByteBuffer.allocateDirect(2048).order(ByteOrder.LITTLE_ENDIAN);
-        DatagramCodec codec = new DatagramCodec();
-        CommandFrame f = new CommandFrame(JOINTS);
-        while (!Thread.currentThread().isInterrupted()) {
+    /** A loopback receiver of command datagrams on a thread of its own, in arrival order. */
+    static final class Receiver implements AutoCloseable {
+        final List<Long> sequences = new ArrayList<>();
+        final List<Long> ticks = new ArrayList<>();
+        final List<Byte> states = new ArrayList<>();
+        private final DatagramChannel rx;
+        private final Thread thread;
+        private final ByteBuffer buf = ByteBuffer.allocateDirect(2048).order(ByteOrder.LITTLE_ENDIAN);
+        private final DatagramCodec codec = new DatagramCodec();
+        private final CommandFrame frame = new CommandFrame(JOINTS);
+
+        Receiver() throws java.io.IOException {
+            rx = DatagramChannel.open();
+            rx.setOption(StandardSocketOptions.SO_RCVBUF, 4 << 20);
+            rx.bind(new InetSocketAddress("127.0.0.1", 0));
+            rx.configureBlocking(false);
+            thread = new Thread(this::run, "test-receiver");
+            thread.start();
+        }
+
+        int port() throws java.io.IOException {
+            return ((InetSocketAddress) rx.getLocalAddress()).getPort();
+        }
+
+        /** Lets datagrams in flight arrive for {@code millis}, then stops and takes what is left. */
+        void stopAfter(long millis) throws InterruptedException {
+            Thread.sleep(millis);
+            thread.interrupt();
+            thread.join();
             try {
-                buf.clear();
-                if (rx.receive(buf) == null) {
+                while (takeOne()) {
                     Thread.onSpinWait();
-                    continue;
                 }
-                buf.flip();
-                if (codec.decodeCommand(buf, f) == DatagramStatus.ACCEPTED) {
-                    synchronized (sequences) {
-                        sequences.add(codec.sequence());
-                        ticks.add(f.tick);
-                        states.add(f.state);
+            } catch (java.io.IOException ignored) {
+                // the test asserts on what arrived
+            }
+        }
+
+        private void run() {
+            try {
+                while (!Thread.currentThread().isInterrupted()) {
+                    if (!takeOne()) {
+                        Thread.onSpinWait();
                     }
                 }
             } catch (java.io.IOException e) {
-                return;
+                // closed: the test asserts on what arrived
             }
         }
-        // drain what is left
-        try {
+
+        private boolean takeOne() throws java.io.IOException {
             buf.clear();
-            while (rx.receive(buf) != null) {
-                buf.flip();
-                if (codec.decodeCommand(buf, f) == DatagramStatus.ACCEPTED) {
-                    sequences.add(codec.sequence());
-                    ticks.add(f.tick);
-                    states.add(f.state);
-                }
-                buf.clear();
+            if (rx.receive(buf) == null) {
+                return false;
             }
-        } catch (java.io.IOException ignored) {
-            // the test asserts on what arrived
+            buf.flip();
+            if (codec.decodeCommand(buf, frame) == DatagramStatus.ACCEPTED) {
+                synchronized (sequences) {
+                    sequences.add(codec.sequence());
+                    ticks.add(frame.tick);
+                    states.add(frame.state);
+                }
+            }
+            return true;
+        }
+
+        @Override
+        public void close() throws java.io.IOException {
+            thread.interrupt();
+            rx.close();
         }
     }
 }
