@@ -24,6 +24,20 @@ final class AxisFilter {
 
     /** Bisection steps on lambda: resolution 2^-24 of the jerk range, far below any bound's tolerance. */
     private static final int BISECTION_STEPS = 24;
+    /** Bisection steps when the shield clips the linear zone's jerk: resolution 2^-16 of the clipped step. */
+    private static final int TRACK_BISECTION_STEPS = 16;
+    /** Closed-loop poles of the linear zone, rad/s (time constants 250, 83 and 25 ms). */
+    static final double[] POLES = {4.0, 12.0, 40.0};
+    /** Time constant of the plan velocity the minimum-time law moves with, s. */
+    static final double RATE_TIME_CONSTANT = 0.1;
+    /** Time constant with which the feed-forward share recovers once the plan is back inside the bounds, s. */
+    static final double FEASIBILITY_RECOVERY = 0.1;
+    /** Multiple of the jerk bound within which the linear zone is entered. */
+    static final double ENTRY_SHARE = 1.0;
+    /** Multiple of the jerk bound the linear law may ask for, clipped to the bound, before the minimum-time law takes over. */
+    static final double EXIT_SHARE = 3.0;
+    /** Share of a bound up to which the plan's derivatives are fed forward in full; beyond it the share falls as (FULL / ratio)^2. */
+    static final double FEED_FORWARD_FULL = 0.9;
 
     private final double dt;
     /** Operating range used for planning (already shrunk by the rounding slack). */
@@ -47,10 +61,29 @@ final class AxisFilter {
     double v;
     double a;
 
-    /** Rate of the (clamped) target over the last tick, clamped to the velocity bound. */
-    private double targetRate;
-    private double previousWall;
-    private boolean havePrevious;
+    /** Feedback gains of the linear zone on the predicted position, velocity and acceleration error. */
+    final double k1;
+    final double k2;
+    final double k3;
+    /** Share of the plan's velocity the minimum-time frame takes per tick (first-order lag of RATE_TIME_CONSTANT). */
+    private final double rateGain;
+
+    /** Whether a plan state was seen since the last reset, brake or non-finite target. */
+    private boolean havePlan;
+    /** The plan's (clamped) acceleration at the previous tick, for the feed-forward jerk. */
+    private double previousPlanAcceleration;
+    /** The plan's (clamped) velocity through a first-order lag: the frame of the minimum-time law. */
+    private double planRate;
+    /** Whether the last tick was in the linear zone. */
+    boolean tracking;
+    /** Share of the plan's derivatives fed forward: 1 on a plan inside the bounds, less while it is beyond them. */
+    private double feasibility = 1.0;
+    /** Recovery of {@link #feasibility} toward 1 per tick (time constant FEASIBILITY_RECOVERY). */
+    private final double feasibilityGain;
+    /** K B: the feedback gains applied to the jerk's own effect over one tick. */
+    private final double kb;
+    /** Frame rate of the current minimum-time feasibility checks. */
+    private double frameRate;
 
     private final double[] base = new double[6];
     private final double[] prof = new double[6];
@@ -96,6 +129,87 @@ final class AxisFilter {
         this.aStrict = aLoose - 1e-9 * aMax;
         this.jUse = jMax - jMargin;
         this.q = 0.5 * (lo + hi);
+        double[] k = linearZoneGains(dt);
+        this.k1 = k[0];
+        this.k2 = k[1];
+        this.k3 = k[2];
+        this.rateGain = 1.0 - Math.exp(-dt / RATE_TIME_CONSTANT);
+        this.feasibilityGain = 1.0 - Math.exp(-dt / FEASIBILITY_RECOVERY);
+        this.kb = k1 * dt * dt * dt / 6.0 + k2 * dt * dt / 2.0 + k3 * dt;
+    }
+
+    /**
+     * State-feedback gains {@code K} for the error of the jerk-driven triple integrator sampled at
+     * {@code dt} with the jerk held over each tick (zero-order hold), error taken at the end of
+     * the tick ({@code e[n+1] = A (I - B K) e[n]}), placing the closed-loop poles at
+     * {@code exp(-w dt)} for the three {@link #POLES} by Ackermann's formula: {@code K' = [0 0 1]
+     * C^-1 phi(A)} with {@code C = [AB, A^2 B, A^3 B]} and {@code phi} the desired characteristic
+     * polynomial, which gives {@code A K} ... see the body for the exact form.
+     */
+    static double[] linearZoneGains(double dt) {
+        double h = dt;
+        double[][] am = {{1, h, h * h / 2}, {0, 1, h}, {0, 0, 1}};
+        double[] b = {h * h * h / 6, h * h / 2, h};
+        // the loop is e' = A e + (A B) u: input matrix A B
+        double[] ab = mulVec(am, b);
+        double[] c1 = ab;
+        double[] c2 = mulVec(am, c1);
+        double[] c3 = mulVec(am, c2);
+        double[][] ctrb = {{c1[0], c2[0], c3[0]}, {c1[1], c2[1], c3[1]}, {c1[2], c2[2], c3[2]}};
+        double z1 = Math.exp(-POLES[0] * h);
+        double z2 = Math.exp(-POLES[1] * h);
+        double z3 = Math.exp(-POLES[2] * h);
+        // (z - z1)(z - z2)(z - z3) = z^3 + p1 z^2 + p2 z + p3
+        double p1 = -(z1 + z2 + z3);
+        double p2 = z1 * z2 + z1 * z3 + z2 * z3;
+        double p3 = -z1 * z2 * z3;
+        double[][] a2 = mul(am, am);
+        double[][] a3 = mul(a2, am);
+        double[][] phi = new double[3][3];
+        for (int r = 0; r < 3; r++) {
+            for (int c = 0; c < 3; c++) {
+                phi[r][c] = a3[r][c] + p1 * a2[r][c] + p2 * am[r][c] + (r == c ? p3 : 0.0);
+            }
+        }
+        double[][] inv = inverse(ctrb);
+        double[] k = new double[3];
+        for (int c = 0; c < 3; c++) {
+            double s = 0.0;
+            for (int m = 0; m < 3; m++) {
+                s += inv[2][m] * phi[m][c];
+            }
+            k[c] = s;
+        }
+        return k;
+    }
+
+    private static double[] mulVec(double[][] m, double[] x) {
+        double[] y = new double[3];
+        for (int r = 0; r < 3; r++) {
+            y[r] = m[r][0] * x[0] + m[r][1] * x[1] + m[r][2] * x[2];
+        }
+        return y;
+    }
+
+    private static double[][] mul(double[][] x, double[][] y) {
+        double[][] z = new double[3][3];
+        for (int r = 0; r < 3; r++) {
+            for (int c = 0; c < 3; c++) {
+                z[r][c] = x[r][0] * y[0][c] + x[r][1] * y[1][c] + x[r][2] * y[2][c];
+            }
+        }
+        return z;
+    }
+
+    private static double[][] inverse(double[][] m) {
+        double a = m[0][0], b = m[0][1], c = m[0][2];
+        double d = m[1][0], e = m[1][1], f = m[1][2];
+        double g = m[2][0], hh = m[2][1], i = m[2][2];
+        double det = a * (e * i - f * hh) - b * (d * i - f * g) + c * (d * hh - e * g);
+        return new double[][] {
+            {(e * i - f * hh) / det, (c * hh - b * i) / det, (b * f - c * e) / det},
+            {(f * g - d * i) / det, (a * i - c * g) / det, (c * d - a * f) / det},
+            {(d * hh - e * g) / det, (b * g - a * hh) / det, (a * e - b * d) / det}};
     }
 
     /** Sets the state; the caller has checked it. */
@@ -103,15 +217,16 @@ final class AxisFilter {
         q = q0;
         v = v0;
         a = a0;
-        havePrevious = false;
-        targetRate = 0.0;
+        forgetPlan();
     }
 
-    /** Takes over the target-rate estimate of another axis (after {@link #set}, when switching limits). */
+    /** Takes over the plan memory of another axis (after {@link #set}, when switching limits). */
     void copyTracking(AxisFilter o) {
-        previousWall = o.previousWall;
-        havePrevious = o.havePrevious;
-        targetRate = o.targetRate;
+        havePlan = o.havePlan;
+        previousPlanAcceleration = o.previousPlanAcceleration;
+        feasibility = o.feasibility;
+        planRate = o.planRate;
+        tracking = o.tracking;
     }
 
     /**
@@ -246,11 +361,11 @@ final class AxisFilter {
     }
 
     /**
-     * Advances a copy of the state by one tick under the blend of the current stopping profile
-     * (held in {@code base}) and a full jerk in direction {@code dir}; fills nq, nv, na and the
+     * Advances a copy of the state by one tick under the jerk {@code keep * brake(t) + push}, where
+     * brake(t) is the current stopping profile (held in {@code base}); fills nq, nv, na and the
      * within-tick extremes of velocity and acceleration.
      */
-    private void simulateTick(double lambda, int dir) {
+    private void simulateTick(double keep, double push) {
         sq = q;
         sv = v;
         sa = a;
@@ -260,8 +375,6 @@ final class AxisFilter {
         eAmin = a;
         eAmax = a;
         double rem = dt;
-        double push = lambda * dir * jUse;
-        double keep = 1.0 - lambda;
         for (int k = 0; k < 3 && rem > 0.0; k++) {
             double d = Math.min(base[2 * k], rem);
             if (d > 0.0) {
@@ -274,7 +387,7 @@ final class AxisFilter {
             segment(push, rem);
         }
         nq = sq;
-        if (brakeDone && push == 0.0) {
+        if (brakeDone && push == 0.0 && keep != 0.0) {
             nv = 0.0;
             na = 0.0;
         } else {
@@ -287,11 +400,16 @@ final class AxisFilter {
         tAmax = eAmax;
     }
 
-    private int feasible(double lambda, int dir, double wall, boolean strict) {
-        simulateTick(lambda, dir);
+    /**
+     * Whether the tick under {@code keep * brake(t) + push} keeps every bound and leaves a state
+     * that can still stop inside the operating range; with {@code dir != 0} also whether that
+     * state, seen from the target {@code wall} moving on at {@code frameRate}, can come to rest
+     * without passing it.
+     */
+    private int feasible(double keep, double push, int dir, double wall, boolean strict) {
+        simulateTick(keep, push);
         double aB = strict ? aStrict : aLoose;
         double vB = strict ? vStrict : vLoose;
-        double slack = strict ? 0.0 : posSlack;
         if (tAmin < -aB || tAmax > aB) {
             return FAIL_ACCELERATION;
         }
@@ -302,12 +420,11 @@ final class AxisFilter {
         if (pVmin < -vB || pVmax > vB) {
             return FAIL_VELOCITY;
         }
-        if (pQmin < qLo - slack || pQmax > qHi + slack) {
+        if (strict ? (pQmin < qLo || pQmax > qHi) : (pQmin < qLoHard || pQmax > qHiHard)) {
             return FAIL_POSITION;
         }
         if (dir != 0) {
-            // Where the successor comes to rest relative to the target moving on at its current rate.
-            profileExtremes(nq - wall, nv - targetRate, na);
+            profileExtremes(nq - wall, nv - frameRate, na);
             if ((dir > 0 && pQend > 0.0) || (dir < 0 && pQend < 0.0)) {
                 return FAIL_TARGET;
             }
@@ -316,82 +433,182 @@ final class AxisFilter {
     }
 
     /**
-     * One tick toward target {@code r}; {@code brakeOnly} forces the stopping profile. Updates the
-     * state and returns the bound flags of {@link JerkLimiter}.
+     * One tick toward a plan whose state at the end of this tick is position {@code p}, velocity
+     * {@code pv} and acceleration {@code pa}. Updates the state and returns the bound flags of
+     * {@link JerkLimiter}. A plan at rest ({@code pv == pa == 0}) is a set point.
      */
-    int step(double r, boolean brakeOnly) {
-        int flags = 0;
+    int follow(double p, double pv, double pa) {
         brakeProfile(v, a, base);
+        if (!(Double.isFinite(p) && Double.isFinite(pv) && Double.isFinite(pa))) {
+            forgetPlan();
+            return commit(JerkLimiter.NON_FINITE_TARGET | holdOrBrake());
+        }
+        int flags = 0;
+        double wall = p;
+        double fv = pv;
+        double fa = pa;
+        if (wall > qHi || wall < qLo) {
+            // a target outside the operating range is the nearest point inside it, at rest
+            wall = wall > qHi ? qHi : qLo;
+            fv = 0.0;
+            fa = 0.0;
+            flags |= JerkLimiter.POSITION;
+        }
+        if (fv > vStrict || fv < -vStrict) {
+            fv = fv > 0.0 ? vStrict : -vStrict;
+            flags |= JerkLimiter.VELOCITY;
+        }
+        if (fa > aStrict || fa < -aStrict) {
+            fa = fa > 0.0 ? aStrict : -aStrict;
+            flags |= JerkLimiter.ACCELERATION;
+        }
+        double jff = 0.0;
+        double ratio = Math.max(Math.abs(pv) / vStrict, Math.abs(pa) / aStrict);
+        if (havePlan) {
+            double raw = (fa - previousPlanAcceleration) / dt;
+            ratio = Math.max(ratio, Math.abs(raw) / jUse);
+            jff = raw;
+            if (jff > jUse || jff < -jUse) {
+                jff = jff > 0.0 ? jUse : -jUse;
+                flags |= JerkLimiter.JERK;
+            }
+            planRate += rateGain * (fv - planRate);
+            feasibility += feasibilityGain * (1.0 - feasibility);
+        } else {
+            planRate = fv;
+            feasibility = 1.0;
+        }
+        if (ratio > FEED_FORWARD_FULL) {
+            double share = FEED_FORWARD_FULL / ratio;
+            share *= share;
+            if (share < feasibility) {
+                feasibility = share;
+            }
+        }
+        previousPlanAcceleration = fa;
+        havePlan = true;
+        boolean planAtRest = fv == 0.0 && fa == 0.0;
+        if (planAtRest && v == 0.0 && a == 0.0 && q == wall) {
+            // holding on a plan at rest: nothing moves, and a state at rest inside the range is viable
+            tracking = false;
+            return flags;
+        }
+        if (!planAtRest) {
+            // linear zone: state feedback on the error predicted at the end of the tick, with the
+            // plan's derivatives as feed-forward, scaled down while the plan is beyond a bound
+            double q0 = q + dt * (v + 0.5 * dt * a);
+            double v0 = v + dt * a;
+            double feedForward = (1.0 - kb) * jff + k2 * fv + k3 * fa;
+            double jerk = feasibility * feedForward + k1 * (wall - q0) - k2 * v0 - k3 * a;
+            double zone = tracking ? EXIT_SHARE * jUse : ENTRY_SHARE * jUse;
+            if (jerk <= zone && jerk >= -zone) {
+                tracking = true;
+                if (jerk > jUse || jerk < -jUse) {
+                    jerk = jerk > 0.0 ? jUse : -jUse;
+                    flags |= JerkLimiter.JERK;
+                }
+                return commit(flags | shieldConstantJerk(jerk));
+            }
+        }
+        tracking = false;
+        return commit(flags | minimumTime(wall, planAtRest ? 0.0 : planRate));
+    }
+
+    /** Constant jerk {@code jerk} over the tick if admissible, otherwise the admissible blend closest to it. */
+    private int shieldConstantJerk(double jerk) {
+        int full = feasible(0.0, jerk, 0, 0.0, true);
+        if (full == OK) {
+            return 0;
+        }
+        if (feasible(1.0, 0.0, 0, 0.0, false) != OK) {
+            simulateTick(1.0, 0.0);
+            return JerkLimiter.NOT_VIABLE;
+        }
+        double lo = 0.0;
+        double hi = 1.0;
+        int hiCode = full;
+        for (int i = 0; i < TRACK_BISECTION_STEPS; i++) {
+            double mid = 0.5 * (lo + hi);
+            int c = feasible(1.0 - mid, mid * jerk, 0, 0.0, true);
+            if (c == OK) {
+                lo = mid;
+            } else {
+                hi = mid;
+                hiCode = c;
+            }
+        }
+        simulateTick(1.0 - lo, lo * jerk);
+        return flagOf(hiCode);
+    }
+
+    /**
+     * Minimum-time law toward {@code wall} seen in the frame moving at {@code rate}: the largest
+     * blend toward full jerk whose successor keeps every bound and can still come to rest without
+     * passing the target. Leaves the successor in nq, nv, na.
+     */
+    private int minimumTime(double wall, double rate) {
+        frameRate = rate;
+        // Where the current state comes to rest relative to where the target was a tick ago,
+        // moving on at the rate: behind it, push forward; ahead of it, push back.
+        profileExtremes(q - (wall - rate * dt), v - rate, a);
+        double lead = pQend;
         int dir = 0;
-        double wall = 0.0;
-        if (!brakeOnly && !Double.isFinite(r)) {
-            flags |= JerkLimiter.NON_FINITE_TARGET;
-        } else if (!brakeOnly) {
-            wall = r;
-            if (wall > qHi) {
-                wall = qHi;
-                flags |= JerkLimiter.POSITION;
-            } else if (wall < qLo) {
-                wall = qLo;
-                flags |= JerkLimiter.POSITION;
-            }
-            double rate = havePrevious ? (wall - previousWall) / dt : 0.0;
-            targetRate = Math.max(-vStrict, Math.min(vStrict, rate));
-            previousWall = wall;
-            havePrevious = true;
-            // Where the current state comes to rest relative to where the target was a tick ago,
-            // moving on at its rate: behind it, push forward; ahead of it, push back.
-            profileExtremes(q - (wall - targetRate * dt), v - targetRate, a);
-            double lead = pQend;
-            if (lead < -arriveTol) {
-                dir = 1;
-            } else if (lead > arriveTol) {
-                dir = -1;
-            } else if (targetRate != 0.0) {
-                dir = targetRate > 0.0 ? 1 : -1;
-            }
+        if (lead < -arriveTol) {
+            dir = 1;
+        } else if (lead > arriveTol) {
+            dir = -1;
+        } else if (rate != 0.0) {
+            dir = rate > 0.0 ? 1 : -1;
         }
         if (dir == 0) {
-            targetRate = 0.0;
+            return holdOrBrake();
         }
-        if (brakeOnly || !Double.isFinite(r)) {
-            havePrevious = false;
+        double push = dir * jUse;
+        int full = feasible(0.0, push, dir, wall, true);
+        if (full == OK) {
+            return JerkLimiter.JERK;
         }
-        double lambda = 0.0;
-        if (dir != 0) {
-            int full = feasible(1.0, dir, wall, true);
-            if (full == OK) {
-                lambda = 1.0;
-                flags |= JerkLimiter.JERK;
+        int none = feasible(1.0, 0.0, dir, wall, false);
+        if (none != OK && none != FAIL_TARGET) {
+            simulateTick(1.0, 0.0);
+            return JerkLimiter.NOT_VIABLE;
+        }
+        double lo = 0.0;
+        double hi = 1.0;
+        int hiCode = full;
+        for (int i = 0; i < BISECTION_STEPS; i++) {
+            double mid = 0.5 * (lo + hi);
+            int c = feasible(1.0 - mid, mid * push, dir, wall, true);
+            if (c == OK) {
+                lo = mid;
             } else {
-                int none = feasible(0.0, dir, wall, false);
-                if (none != OK && none != FAIL_TARGET) {
-                    flags |= JerkLimiter.NOT_VIABLE;
-                } else {
-                    double lo = 0.0;
-                    double hi = 1.0;
-                    int hiCode = full;
-                    for (int i = 0; i < BISECTION_STEPS; i++) {
-                        double mid = 0.5 * (lo + hi);
-                        int c = feasible(mid, dir, wall, true);
-                        if (c == OK) {
-                            lo = mid;
-                        } else {
-                            hi = mid;
-                            hiCode = c;
-                        }
-                    }
-                    lambda = lo;
-                    flags |= flagOf(hiCode);
-                }
-            }
-        } else {
-            int none = feasible(0.0, 0, 0.0, false);
-            if (none != OK) {
-                flags |= JerkLimiter.NOT_VIABLE;
+                hi = mid;
+                hiCode = c;
             }
         }
-        simulateTick(lambda, dir);
+        simulateTick(1.0 - lo, lo * push);
+        return flagOf(hiCode);
+    }
+
+    /** The stopping profile for this tick (a hold once at rest); NOT_VIABLE when even it breaks a bound. */
+    private int holdOrBrake() {
+        int code = feasible(1.0, 0.0, 0, 0.0, false);
+        if (code == OK) {
+            return 0;
+        }
+        simulateTick(1.0, 0.0);
+        return JerkLimiter.NOT_VIABLE;
+    }
+
+    /** One tick along the stopping profile; forgets the plan. */
+    int brake() {
+        brakeProfile(v, a, base);
+        forgetPlan();
+        return commit(holdOrBrake());
+    }
+
+    /** Takes the successor (nq, nv, na) as the new state, with the last-resort position clamp. */
+    private int commit(int flags) {
         double nextQ = nq;
         if (nextQ > qHiHard) {
             nextQ = qHiHard;
@@ -404,6 +621,14 @@ final class AxisFilter {
         v = nv;
         a = na;
         return flags;
+    }
+
+    private void forgetPlan() {
+        havePlan = false;
+        tracking = false;
+        planRate = 0.0;
+        previousPlanAcceleration = 0.0;
+        feasibility = 1.0;
     }
 
     private static int flagOf(int failCode) {

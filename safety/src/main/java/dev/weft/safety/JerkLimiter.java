@@ -227,7 +227,9 @@ public final class JerkLimiter {
     }
 
     /**
-     * Advances one tick toward {@code target} and writes the command.
+     * Advances one tick toward a set point per joint (a target at rest: zero velocity and
+     * acceleration) and writes the command. Same as {@link #apply(double[], double[], double[], double[])}
+     * with zero velocity and acceleration; use that form to follow a moving plan.
      *
      * @param target  read only, length {@link #joints()}; any values, non-finite included (a
      *                non-finite entry makes that joint brake to a hold and raises
@@ -240,7 +242,34 @@ public final class JerkLimiter {
         checkLength("command", command);
         int all = 0;
         for (int i = 0; i < axes.length; i++) {
-            int f = axes[i].step(target[i], false);
+            int f = axes[i].follow(target[i], 0.0, 0.0);
+            jointFlags[i] = f;
+            all |= f;
+            command[i] = axes[i].q;
+        }
+        return all;
+    }
+
+    /**
+     * Advances one tick along a plan and writes the command: the plan's state at the time of this
+     * tick's command is position {@code target}, velocity {@code velocity} (units/s) and
+     * acceleration {@code acceleration} (units/s^2) per joint.
+     *
+     * @param target       read only, length {@link #joints()}; any values, non-finite included
+     * @param velocity     read only, length {@link #joints()}; any values (a non-finite entry is
+     *                     treated as a non-finite target)
+     * @param acceleration read only, length {@link #joints()}; likewise
+     * @param command      written, length {@link #joints()}; always finite and inside the operating range
+     * @return OR of the per-joint flags of this tick
+     */
+    public int apply(double[] target, double[] velocity, double[] acceleration, double[] command) {
+        checkLength("target", target);
+        checkLength("velocity", velocity);
+        checkLength("acceleration", acceleration);
+        checkLength("command", command);
+        int all = 0;
+        for (int i = 0; i < axes.length; i++) {
+            int f = axes[i].follow(target[i], velocity[i], acceleration[i]);
             jointFlags[i] = f;
             all |= f;
             command[i] = axes[i].q;
@@ -259,12 +288,28 @@ public final class JerkLimiter {
         checkLength("command", command);
         int all = 0;
         for (int i = 0; i < axes.length; i++) {
-            int f = axes[i].step(0.0, true);
+            int f = axes[i].brake();
             jointFlags[i] = f;
             all |= f;
             command[i] = axes[i].q;
         }
         return all;
+    }
+
+    /** Copies every joint's state (position, velocity, acceleration) into {@code store} (length 3 x joints). */
+    void saveState(double[] store) {
+        for (int i = 0; i < axes.length; i++) {
+            store[3 * i] = axes[i].q;
+            store[3 * i + 1] = axes[i].v;
+            store[3 * i + 2] = axes[i].a;
+        }
+    }
+
+    /** Puts back a state taken by {@link #saveState}; the plan memory is forgotten, as by a reset. */
+    void restoreState(double[] store) {
+        for (int i = 0; i < axes.length; i++) {
+            axes[i].set(store[3 * i], store[3 * i + 1], store[3 * i + 2]);
+        }
     }
 
     /** Flags of joint {@code joint} from the last {@link #apply} or {@link #brake}. */

@@ -46,8 +46,13 @@ public final class Supervisor {
     private final double armingTolerance;
     private final long armingTimeoutTicks;
     private final long armingRampTicks;
+    private final double period;
     private final double[] armStart;
     private final double[] rampTarget;
+    private final double[] rampVelocity;
+    private final double[] rampAcceleration;
+    private final double[] atRest;
+    private final double[] saved;
     private final TransitionListener listener;
     private final int joints;
 
@@ -72,8 +77,13 @@ public final class Supervisor {
         this.armingTolerance = b.armingTolerance;
         this.armingTimeoutTicks = b.armingTimeoutTicks;
         this.armingRampTicks = b.armingRampTicks;
+        this.period = b.period;
         this.armStart = new double[b.limits.count()];
         this.rampTarget = new double[b.limits.count()];
+        this.rampVelocity = new double[b.limits.count()];
+        this.rampAcceleration = new double[b.limits.count()];
+        this.atRest = new double[b.limits.count()];
+        this.saved = new double[3 * b.limits.count()];
         this.listener = b.listener;
         if (initialPose == null || initialPose.length != joints) {
             throw new IllegalArgumentException("supervisor: initial pose must have length " + joints);
@@ -236,22 +246,37 @@ public final class Supervisor {
     }
 
     /**
-     * Produces the command of one tick.
-     *
-     * @param tick         the control tick
-     * @param timeNanos    time of the tick (for events only)
-     * @param target       blended target, read only, any values (non-finite ones start a stop)
-     * @param watchdogCode result of {@link Watchdog#check} for this tick (0 = none)
-     * @param command      written: the command to send, always finite and inside the operating range
-     * @return the state after this tick
+     * Produces the command of one tick toward a target at rest (a set point per joint): the same
+     * as {@link #step(long, long, double[], double[], double[], int, double[])} with zero velocity
+     * and acceleration.
      */
     public SupervisorState step(long tick, long timeNanos, double[] target, int watchdogCode, double[] command) {
+        return step(tick, timeNanos, target, atRest, atRest, watchdogCode, command);
+    }
+
+    /**
+     * Produces the command of one tick.
+     *
+     * @param tick                the control tick
+     * @param timeNanos           time of the tick (for events only)
+     * @param target              the plan's position at this tick, read only, any values (non-finite ones start a stop)
+     * @param targetVelocity      the plan's velocity at this tick (units/s), read only; non-finite values start a stop
+     * @param targetAcceleration  the plan's acceleration at this tick (units/s^2), read only; likewise
+     * @param watchdogCode        result of {@link Watchdog#check} for this tick (0 = none)
+     * @param command             written: the command to send, always finite and inside the operating range
+     * @return the state after this tick
+     */
+    public SupervisorState step(long tick, long timeNanos, double[] target, double[] targetVelocity,
+            double[] targetAcceleration, int watchdogCode, double[] command) {
         checkLength("target", target);
+        checkLength("target velocity", targetVelocity);
+        checkLength("target acceleration", targetAcceleration);
         checkLength("command", command);
         lastWatchdogCode = watchdogCode;
         boolean finite = true;
         for (int i = 0; i < joints; i++) {
-            finite &= Double.isFinite(target[i]);
+            finite &= Double.isFinite(target[i]) && Double.isFinite(targetVelocity[i])
+                    && Double.isFinite(targetAcceleration[i]);
         }
         lastTargetFinite = finite;
         int fault = watchdogCode != 0 ? watchdogCode : (finite ? 0 : Cause.NON_FINITE_TARGET);
@@ -260,30 +285,7 @@ public final class Supervisor {
                 if (fault != 0 || disarmRequested) {
                     startStop(tick, timeNanos, fault != 0 ? fault : Cause.DISARM_REQUEST, command, true);
                 } else {
-                    active = soft;
-                    armingTicks++;
-                    double[] goal = target;
-                    if (armingRampTicks > 0 && armingTicks < armingRampTicks) {
-                        // the soft start's own target: from the held pose to the plan, linearly over the ramp
-                        double f = (double) armingTicks / armingRampTicks;
-                        for (int i = 0; i < joints; i++) {
-                            rampTarget[i] = armStart[i] + f * (target[i] - armStart[i]);
-                        }
-                        goal = rampTarget;
-                    }
-                    lastFlags = soft.apply(goal, command);
-                    if ((lastFlags & JerkLimiter.FAULT_FLAGS) != 0) {
-                        startStopNextTick(tick, timeNanos, Cause.LIMITER_FAULT, true);
-                    } else if (armingRampTicks > 0 ? armingTicks >= armingRampTicks && withinOffset(target)
-                            : withinTolerance(target)) {
-                        if (main.resetFrom(soft)) {
-                            transition(tick, timeNanos, SupervisorState.ARMED, Cause.ARMING_COMPLETE);
-                        } else {
-                            startStopNextTick(tick, timeNanos, Cause.LIMITER_FAULT, true);
-                        }
-                    } else if (armingTicks >= armingTimeoutTicks) {
-                        startStopNextTick(tick, timeNanos, Cause.ARMING_TIMEOUT, true);
-                    }
+                    stepArming(tick, timeNanos, target, targetVelocity, targetAcceleration, command);
                 }
                 break;
             case ARMED:
@@ -291,9 +293,14 @@ public final class Supervisor {
                     startStop(tick, timeNanos, fault != 0 ? fault : Cause.DISARM_REQUEST, command, false);
                 } else {
                     active = main;
-                    lastFlags = main.apply(target, command);
+                    main.saveState(saved);
+                    lastFlags = main.apply(target, targetVelocity, targetAcceleration, command);
                     if ((lastFlags & JerkLimiter.FAULT_FLAGS) != 0) {
-                        startStopNextTick(tick, timeNanos, Cause.LIMITER_FAULT, false);
+                        // the fault is seen at this tick, so this tick's command is the stop's first
+                        int flags = lastFlags;
+                        main.restoreState(saved);
+                        startStop(tick, timeNanos, Cause.LIMITER_FAULT, command, false);
+                        lastFlags |= flags;
                     }
                 }
                 break;
@@ -315,6 +322,58 @@ public final class Supervisor {
                 break;
         }
         return state;
+    }
+
+    /**
+     * One tick of the soft start. Its own target goes from the held pose to the plan along the
+     * quintic smooth step {@code f(s) = 10 s^3 - 15 s^4 + 6 s^5} over the ramp, whose first and
+     * second derivatives vanish at both ends, so the soft start's target and its velocity and
+     * acceleration are continuous where it begins and where it hands over. A limiter fault, a
+     * failed hand-over or the timeout seen at this tick makes this tick's command the first of
+     * the stop.
+     */
+    private void stepArming(long tick, long timeNanos, double[] target, double[] targetVelocity,
+            double[] targetAcceleration, double[] command) {
+        active = soft;
+        armingTicks++;
+        double[] goal = target;
+        double[] goalVelocity = targetVelocity;
+        double[] goalAcceleration = targetAcceleration;
+        if (armingRampTicks > 0 && armingTicks < armingRampTicks) {
+            double s = (double) armingTicks / armingRampTicks;
+            double rampSeconds = armingRampTicks * period;
+            double f = s * s * s * (10.0 + s * (-15.0 + 6.0 * s));
+            double f1 = 30.0 * s * s * (1.0 - s) * (1.0 - s) / rampSeconds;
+            double f2 = 60.0 * s * (1.0 - s) * (1.0 - 2.0 * s) / (rampSeconds * rampSeconds);
+            for (int i = 0; i < joints; i++) {
+                double gap = target[i] - armStart[i];
+                rampTarget[i] = armStart[i] + f * gap;
+                rampVelocity[i] = f * targetVelocity[i] + f1 * gap;
+                rampAcceleration[i] = f * targetAcceleration[i] + 2.0 * f1 * targetVelocity[i] + f2 * gap;
+            }
+            goal = rampTarget;
+            goalVelocity = rampVelocity;
+            goalAcceleration = rampAcceleration;
+        }
+        soft.saveState(saved);
+        lastFlags = soft.apply(goal, goalVelocity, goalAcceleration, command);
+        if ((lastFlags & JerkLimiter.FAULT_FLAGS) != 0) {
+            int flags = lastFlags;
+            soft.restoreState(saved);
+            startStop(tick, timeNanos, Cause.LIMITER_FAULT, command, true);
+            lastFlags |= flags;
+        } else if (armingRampTicks > 0 ? armingTicks >= armingRampTicks && withinOffset(target)
+                : withinTolerance(target)) {
+            if (main.resetFrom(soft)) {
+                transition(tick, timeNanos, SupervisorState.ARMED, Cause.ARMING_COMPLETE);
+            } else {
+                soft.restoreState(saved);
+                startStop(tick, timeNanos, Cause.LIMITER_FAULT, command, true);
+            }
+        } else if (armingTicks >= armingTimeoutTicks) {
+            soft.restoreState(saved);
+            startStop(tick, timeNanos, Cause.ARMING_TIMEOUT, command, true);
+        }
     }
 
     private boolean withinOffset(double[] target) {
@@ -342,14 +401,6 @@ public final class Supervisor {
         enterStopping(tick, timeNanos, cause);
         lastFlags = main.brake(command) | (viable ? 0 : JerkLimiter.NOT_VIABLE);
         finishStopIfAtRest(tick, timeNanos);
-    }
-
-    /** The command of this tick is already written; the stop begins with the next tick's command. */
-    private void startStopNextTick(long tick, long timeNanos, int cause, boolean fromArming) {
-        if (fromArming) {
-            main.resetFrom(soft);
-        }
-        enterStopping(tick, timeNanos, cause);
     }
 
     private void enterStopping(long tick, long timeNanos, int cause) {

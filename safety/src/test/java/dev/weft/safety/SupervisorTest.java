@@ -24,11 +24,22 @@ class SupervisorTest {
         out[1] = -0.2 + 0.3 * Math.sin(0.3 * t);
     }
 
+    /** The plan's velocity and acceleration, analytic. */
+    private static void planRates(long tick, double[] velocity, double[] acceleration) {
+        double t = tick * DT;
+        velocity[0] = 0.2 * 0.5 * Math.cos(0.5 * t);
+        velocity[1] = 0.3 * 0.3 * Math.cos(0.3 * t);
+        acceleration[0] = -0.2 * 0.25 * Math.sin(0.5 * t);
+        acceleration[1] = -0.3 * 0.09 * Math.sin(0.3 * t);
+    }
+
     private static final class Rig {
         final TransitionLog log = new TransitionLog(64);
         final Supervisor sup;
         final BoundChecker checker;
         final double[] target = new double[2];
+        final double[] velocity = new double[2];
+        final double[] acceleration = new double[2];
         final double[] cmd = new double[2];
         long tick;
 
@@ -42,7 +53,8 @@ class SupervisorTest {
         SupervisorState step(int watchdogCode) {
             tick++;
             plan(tick, target);
-            SupervisorState s = sup.step(tick, tick * NS, target, watchdogCode, cmd);
+            planRates(tick, velocity, acceleration);
+            SupervisorState s = sup.step(tick, tick * NS, target, velocity, acceleration, watchdogCode, cmd);
             checker.accept(tick, cmd);
             return s;
         }
@@ -341,6 +353,8 @@ class SupervisorTest {
         double[] target = new double[2];
         double[] cmd = new double[2];
         // the plan sweeps the shoulder at 0.3 rad/s, above the soft start's 0.25 rad/s
+        double[] velocity = {0.3, 0.0};
+        double[] acceleration = new double[2];
         java.util.function.LongConsumer plan = k -> {
             target[0] = 0.1 + 0.3 * k * DT;
             target[1] = 0.05;
@@ -350,7 +364,7 @@ class SupervisorTest {
         long k = 0;
         while (sup.state() == SupervisorState.ARMING && k < 5000) {
             plan.accept(++k);
-            sup.step(k, k * NS, target, 0, cmd);
+            sup.step(k, k * NS, target, velocity, acceleration, 0, cmd);
             checker.accept(k, cmd);
         }
         assertThat(sup.state()).isEqualTo(SupervisorState.ARMED);
@@ -358,7 +372,7 @@ class SupervisorTest {
         assertThat(log.cause(1)).isEqualTo(Cause.ARMING_COMPLETE);
         for (int n = 0; n < 2000; n++) {
             plan.accept(++k);
-            sup.step(k, k * NS, target, 0, cmd);
+            sup.step(k, k * NS, target, velocity, acceleration, 0, cmd);
             checker.accept(k, cmd);
         }
         assertThat(cmd[0]).as("following the plan under the full limits").isCloseTo(target[0], org.assertj.core.api.Assertions.within(0.02));
