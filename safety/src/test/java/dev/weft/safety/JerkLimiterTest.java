@@ -186,6 +186,49 @@ class JerkLimiterTest {
     }
 
     @Test
+    void aPoseExactlyAtTheOperatingBoundHoldsWithoutAFlag() {
+        // reset accepts a pose at the operating bound; holding there must not raise NOT_VIABLE
+        JointLimits limits = twoJoints();
+        double[] pose = {limits.operatingMin(0), limits.operatingMax(1)};
+        JerkLimiter l = JerkLimiter.create(limits, DT);
+        assertThat(l.reset(pose)).isTrue();
+        double[] cmd = new double[2];
+        int flags = 0;
+        for (int k = 0; k < 1000; k++) {
+            flags |= l.brake(cmd);
+        }
+        assertThat(flags).isZero();
+        assertThat(cmd).containsExactly(pose);
+        // a target at the bound itself: the planning range keeps a rounding slack inside the
+        // bound (so POSITION may be flagged), but never a fault
+        for (int k = 0; k < 1000; k++) {
+            flags |= l.apply(pose, cmd);
+        }
+        assertThat(flags & JerkLimiter.FAULT_FLAGS).isZero();
+        assertThat(cmd[0]).isCloseTo(pose[0], within(1e-12));
+        assertThat(cmd[1]).isCloseTo(pose[1], within(1e-12));
+        // and a plan that leaves the bound inward is followed from there
+        flags = 0;
+        for (int k = 1; k <= 3000; k++) {
+            flags |= l.apply(new double[] {pose[0] + 0.2, pose[1] - 0.2}, cmd);
+        }
+        assertThat(flags & JerkLimiter.FAULT_FLAGS).isZero();
+        assertThat(cmd[0]).isCloseTo(pose[0] + 0.2, within(1e-9));
+    }
+
+    @Test
+    void nonFiniteVelocityOrAccelerationOfThePlanIsANonFiniteTarget() {
+        JerkLimiter l = JerkLimiter.create(twoJoints(), DT);
+        l.reset(new double[] {0.2, 0.1});
+        double[] cmd = new double[2];
+        int f = l.apply(new double[] {0.2, 0.1}, new double[] {Double.NaN, 0}, new double[] {0, Double.POSITIVE_INFINITY}, cmd);
+        assertThat(f & JerkLimiter.NON_FINITE_TARGET).isNotZero();
+        assertThat(l.flags(0) & JerkLimiter.NON_FINITE_TARGET).isNotZero();
+        assertThat(l.flags(1) & JerkLimiter.NON_FINITE_TARGET).isNotZero();
+        assertThat(cmd).containsExactly(0.2, 0.1);
+    }
+
+    @Test
     void boundCheckerCatchesAViolationThatAPlainClampWouldMake() {
         // Guard against a check that cannot fail: a position clamp of a step violates every derivative bound.
         JointLimits limits = twoJoints();

@@ -8,7 +8,8 @@ import org.junit.jupiter.api.Test;
 /**
  * Invariant 1 of the design: for any target sequence, the emitted commands stay inside the
  * operating range and their finite differences stay inside the velocity, acceleration and jerk
- * bounds. Measured on the emitted sequence itself by {@link BoundChecker}. Plain seeded loops.
+ * bounds, whether the targets come as set points or as a plan with (possibly hostile) velocity and
+ * acceleration. Measured on the emitted sequence itself by {@link BoundChecker}. Plain seeded loops.
  */
 class LimiterPropertyTest {
 
@@ -41,14 +42,25 @@ class LimiterPropertyTest {
             checker.start(start, null, null);
             TargetSource source = new TargetSource(rng, limits, dt);
             double[] target = new double[joints];
+            double[] velocity = new double[joints];
+            double[] acceleration = new double[joints];
             double[] command = new double[joints];
+            // half the episodes give the plan's derivatives (hostile ones too), half give set points
+            boolean plan = (e & 1) == 1;
             for (int k = 1; k <= TICKS_PER_EPISODE; k++) {
                 source.next(k, target);
-                int flags = limiter.apply(target, command);
+                int flags;
+                if (plan) {
+                    source.rates(k, target, velocity, acceleration);
+                    flags = limiter.apply(target, velocity, acceleration, command);
+                } else {
+                    flags = limiter.apply(target, command);
+                }
                 checker.accept(k, command);
                 boolean anyNonFinite = false;
-                for (double x : target) {
-                    anyNonFinite |= !Double.isFinite(x);
+                for (int i = 0; i < joints; i++) {
+                    anyNonFinite |= !Double.isFinite(target[i])
+                            || plan && !(Double.isFinite(velocity[i]) && Double.isFinite(acceleration[i]));
                 }
                 if (anyNonFinite) {
                     nonFiniteSeen++;
@@ -113,6 +125,8 @@ class LimiterPropertyTest {
         private int mode;
         private int modeLeft;
         private final double[] level;
+        private final double[] lastTarget;
+        private final double[] lastRate;
         private double f0;
         private double f1;
         private double span;
@@ -122,6 +136,8 @@ class LimiterPropertyTest {
             this.limits = limits;
             this.dt = dt;
             this.level = new double[limits.count()];
+            this.lastTarget = new double[limits.count()];
+            this.lastRate = new double[limits.count()];
         }
 
         void next(int tick, double[] target) {
@@ -167,6 +183,48 @@ class LimiterPropertyTest {
                         break;
                     default: // ramp through the whole range and beyond
                         target[i] = lo - half + 4 * half * ((tick % (int) span) / span);
+                        break;
+                }
+            }
+        }
+
+        /**
+         * The plan's derivatives for the target just drawn: mostly the finite differences of
+         * the targets (a consistent plan), sometimes huge, sign-flipped or non-finite ones.
+         */
+        void rates(int tick, double[] target, double[] velocity, double[] acceleration) {
+            int pick = rng.nextInt(40);
+            for (int i = 0; i < target.length; i++) {
+                double v = Double.isFinite(target[i]) && Double.isFinite(lastTarget[i]) ? (target[i] - lastTarget[i]) / dt : 0;
+                if (!Double.isFinite(v)) {
+                    v = 0;
+                }
+                double a = (v - lastRate[i]) / dt;
+                if (!Double.isFinite(a)) {
+                    a = 0;
+                }
+                lastTarget[i] = target[i];
+                lastRate[i] = v;
+                switch (pick) {
+                    case 0:
+                        velocity[i] = 1e300;
+                        acceleration[i] = -1e300;
+                        break;
+                    case 1:
+                        velocity[i] = -v * 50;
+                        acceleration[i] = a * 1e6;
+                        break;
+                    case 2:
+                        velocity[i] = Double.NaN;
+                        acceleration[i] = a;
+                        break;
+                    case 3:
+                        velocity[i] = v;
+                        acceleration[i] = Double.NEGATIVE_INFINITY;
+                        break;
+                    default:
+                        velocity[i] = v;
+                        acceleration[i] = a;
                         break;
                 }
             }

@@ -396,6 +396,35 @@ class SupervisorTest {
     }
 
     @Test
+    void theArmingTimeoutSeenAtTickNMakesTickNTheFirstStopCommand() {
+        double[] pose = {0.3, -0.2};
+        JointLimits limits = limits();
+        TransitionLog log = new TransitionLog(8);
+        Supervisor sup = Supervisor.builder(limits, DT).listener(log).armingTimeoutTicks(50).maxArmingOffset(0.35).build(pose);
+        assertThat(sup.arm(0, 0, pose, new double[] {0.4, -0.2})).isZero();
+        double[] cmd = new double[2];
+        double[] before = new double[6];
+        for (long k = 1; k <= 49; k++) {
+            assertThat(sup.step(k, k, new double[] {0.4, -0.2}, 0, cmd)).isEqualTo(SupervisorState.ARMING);
+        }
+        for (int i = 0; i < 2; i++) {
+            before[3 * i] = cmd[i];
+            before[3 * i + 1] = sup.commandVelocity(i);
+            before[3 * i + 2] = sup.commandAcceleration(i);
+        }
+        // the twin: the full-limit limiter braking from the soft start's state after tick 49
+        JerkLimiter twin = JerkLimiter.create(limits, DT);
+        assertThat(twin.reset(new double[] {before[0], before[3]}, new double[] {before[1], before[4]},
+                new double[] {before[2], before[5]})).isTrue();
+        double[] expected = new double[2];
+        twin.brake(expected);
+        assertThat(sup.step(50, 50, new double[] {0.4, -0.2}, 0, cmd)).isIn(SupervisorState.STOPPING, SupervisorState.FAULTED);
+        assertThat(log.tick(1)).isEqualTo(50);
+        assertThat(log.cause(1)).isEqualTo(Cause.ARMING_TIMEOUT);
+        assertThat(cmd).containsExactly(expected);
+    }
+
+    @Test
     void tickPathAllocatesNothing() {
         double[] pose = {0.3, -0.2};
         Rig[] rigs = new Rig[3];

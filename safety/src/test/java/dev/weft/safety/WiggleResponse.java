@@ -1,0 +1,103 @@
+package dev.weft.safety;
+
+/**
+ * The limiter's response to a hold pose with a sinusoidal wiggle on top, the plan's velocity and
+ * acceleration given exactly: the measurement behind the never-amplifies test and the gain plot
+ * of docs/safety.md ({@link GainPlot}).
+ */
+final class WiggleResponse {
+
+    /** Seconds of settling before the measured window. */
+    static final double SETTLE_SECONDS = 2.0;
+    /** Length of the measured window, s (a whole number of periods of every frequency used). */
+    static final double WINDOW_SECONDS = 2.0;
+    static final double HOLD = 0.3;
+    /** The wiggle's amplitude rises from 0 over this time, s. */
+    static final double FADE_IN_SECONDS = 1.0;
+
+    /** Peak-to-peak of the command's deviation from the hold pose over the window, divided by the target's. */
+    final double gain;
+    /** Largest DFT amplitude of the command at a frequency other than the wiggle's, over the wiggle's amplitude. */
+    final double otherFrequencies;
+    /** Share of the window's ticks with the jerk flag set. */
+    final double jerkFlagged;
+    /** Largest |command - target| over the window. */
+    final double largestError;
+
+    private WiggleResponse(double gain, double otherFrequencies, double jerkFlagged, double largestError) {
+        this.gain = gain;
+        this.otherFrequencies = otherFrequencies;
+        this.jerkFlagged = jerkFlagged;
+        this.largestError = largestError;
+    }
+
+    /** The lift joint of the demo arm: the tightest bounds of the demo (1.4 rad/s, 5 rad/s^2, 50 rad/s^3). */
+    static JointLimits liftJoint() {
+        return JointLimits.builder().joint("lift", -1.8, 1.8, 1.4, 5, 50, 0.05).build();
+    }
+
+    static WiggleResponse measure(JointLimits limits, double dt, double amplitude, double hertz) {
+        JerkLimiter l = JerkLimiter.create(limits, dt);
+        if (!l.reset(new double[] {HOLD})) {
+            throw new IllegalStateException("hold pose not accepted");
+        }
+        double[] p = new double[1];
+        double[] pv = new double[1];
+        double[] pa = new double[1];
+        double[] c = new double[1];
+        int settle = (int) Math.round(SETTLE_SECONDS / dt);
+        int window = (int) Math.round(WINDOW_SECONDS / dt);
+        double[] dev = new double[window];
+        double lo = Double.POSITIVE_INFINITY;
+        double hi = Double.NEGATIVE_INFINITY;
+        double tlo = Double.POSITIVE_INFINITY;
+        double thi = Double.NEGATIVE_INFINITY;
+        int flagged = 0;
+        double largestError = 0;
+        double w = 2 * Math.PI * hertz;
+        for (int k = 1; k <= settle + window; k++) {
+            double t = k * dt;
+            // the wiggle fades in over the first second along a quintic smooth step, so a feasible
+            // one starts without a mismatch between the held state and the plan
+            double s = Math.min(1.0, t / FADE_IN_SECONDS);
+            double e = s * s * s * (10 - 15 * s + 6 * s * s);
+            double e1 = s < 1 ? 30 * s * s * (1 - s) * (1 - s) / FADE_IN_SECONDS : 0;
+            double e2 = s < 1 ? 60 * s * (1 - s) * (1 - 2 * s) / (FADE_IN_SECONDS * FADE_IN_SECONDS) : 0;
+            double sin = Math.sin(w * t);
+            double cos = Math.cos(w * t);
+            p[0] = HOLD + amplitude * e * sin;
+            pv[0] = amplitude * (e1 * sin + e * w * cos);
+            pa[0] = amplitude * (e2 * sin + 2 * e1 * w * cos - e * w * w * sin);
+            int flags = l.apply(p, pv, pa, c);
+            if (k > settle) {
+                double d = c[0] - HOLD;
+                dev[k - settle - 1] = d;
+                lo = Math.min(lo, d);
+                hi = Math.max(hi, d);
+                tlo = Math.min(tlo, p[0] - HOLD);
+                thi = Math.max(thi, p[0] - HOLD);
+                largestError = Math.max(largestError, Math.abs(c[0] - p[0]));
+                if ((flags & JerkLimiter.JERK) != 0) {
+                    flagged++;
+                }
+            }
+        }
+        // plain DFT over the window; the wiggle's own bin is the one at 'hertz'
+        int own = (int) Math.round(hertz * WINDOW_SECONDS);
+        double other = 0;
+        for (int b = 1; b < window / 2; b++) {
+            if (b == own) {
+                continue;
+            }
+            double re = 0;
+            double im = 0;
+            for (int i = 0; i < window; i++) {
+                double angle = 2 * Math.PI * b * (double) i / window;
+                re += dev[i] * Math.cos(angle);
+                im += dev[i] * Math.sin(angle);
+            }
+            other = Math.max(other, 2 * Math.hypot(re, im) / window);
+        }
+        return new WiggleResponse((hi - lo) / (thi - tlo), other / amplitude, flagged / (double) window, largestError);
+    }
+}
