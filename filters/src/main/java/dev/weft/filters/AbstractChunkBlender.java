@@ -4,8 +4,9 @@ import java.util.Arrays;
 
 /**
  * The chunk timeline shared by every blender: validation, stale-prefix accounting, resampling of a
- * chunk onto control ticks, a power-of-two ring of per-tick slots, and the plan bounds. Subclasses
- * decide only how a chunk's per-tick value is merged into a slot and how a slot is read.
+ * chunk's curve (position, and its derivatives per tick) onto control ticks, a power-of-two ring of
+ * per-tick slots, and the plan bounds. Subclasses decide only how a chunk's per-tick state is merged into
+ * a slot and how a slot is read.
  *
  * <p>Ring invariant: every tick of plan lies in {@code [lastNow, planEnd]} with
  * {@code planEnd − lastNow < capacity}, so the slot {@code tick & mask} of such a tick holds that tick
@@ -35,8 +36,12 @@ abstract class AbstractChunkBlender implements ChunkBlender {
     final int mask;
     /** Which tick each slot currently holds, or NO_TICK. */
     final long[] slotTick;
+    /** {@code r²}, for converting d²/du² into a rate per tick². */
+    private final double stepRatioSquared;
     private final ChunkCurve curve;
     private final double[] point;
+    private final double[] pointVelocity;
+    private final double[] pointAcceleration;
 
     /** nowTick of the latest non-rejected accept call, or NO_TICK. */
     long lastNow = NO_TICK;
@@ -98,8 +103,11 @@ abstract class AbstractChunkBlender implements ChunkBlender {
         this.mask = capacity - 1;
         this.slotTick = new long[capacity];
         Arrays.fill(slotTick, NO_TICK);
+        this.stepRatioSquared = stepRatio * stepRatio;
         this.curve = new ChunkCurve(dims, maxSteps, interpolation);
         this.point = new double[dims];
+        this.pointVelocity = new double[dims];
+        this.pointAcceleration = new double[dims];
     }
 
     /** How many leading steps of a {@code steps}-long chunk may be executed at all. */
@@ -110,22 +118,35 @@ abstract class AbstractChunkBlender implements ChunkBlender {
     /** Whether a chunk from an older observation than the current plan is dropped. */
     abstract boolean dropsOlderOrigins();
 
-    /** Called once per accepted chunk before its ticks are merged. */
-    void beginChunk(long originTick, long nowTick) {
+    /**
+     * Called once per accepted chunk before its ticks are merged.
+     *
+     * @param firstTick the first tick the chunk covers (its arrival, {@code nowTick})
+     * @param lastTick  the last tick the chunk covers
+     */
+    void beginChunk(long originTick, long firstTick, long lastTick) {
     }
 
     /**
-     * Merges the chunk's value for {@code tick} into {@code slot}.
+     * Merges the chunk's state for {@code tick} into {@code slot}: its position, velocity per tick and
+     * acceleration per tick² (read only).
      *
      * @param hadPlan whether the slot held plan for this tick before this chunk
      */
-    abstract void mergeTick(long tick, int slot, double[] value, boolean hadPlan);
+    abstract void mergeTick(long tick, int slot, double[] position, double[] velocity, double[] acceleration,
+            boolean hadPlan);
 
     /** Plan end after merging a chunk that covers ticks up to {@code chunkEnd}. */
     abstract long planEndAfter(long chunkEnd);
 
-    /** Writes the action held in {@code slot} into {@code out}. */
-    abstract void readSlot(int slot, double[] out);
+    /** Writes the position held in {@code slot} into {@code out}. */
+    abstract void readPosition(int slot, double[] out);
+
+    /**
+     * Writes the state held in {@code slot}; the position must be bit for bit what
+     * {@link #readPosition} writes.
+     */
+    abstract void readState(int slot, double[] position, double[] velocity, double[] acceleration);
 
     /** Subclass state reset. */
     void resetSlots() {
@@ -177,8 +198,8 @@ abstract class AbstractChunkBlender implements ChunkBlender {
             return SUPERSEDED;
         }
         long firstOffset = nowTick - originTick;
-        stale += staleCount(firstOffset, steps);
         int points = executableSteps(steps);
+        stale += staleCount(firstOffset, points);
         long span = lastOffset(points);
         lastNow = nowTick;
         if (firstOffset > span) {
@@ -186,15 +207,19 @@ abstract class AbstractChunkBlender implements ChunkBlender {
             return 0;
         }
         curve.prepare(chunk, points);
-        beginChunk(originTick, nowTick);
         long end = originTick + span;
+        beginChunk(originTick, nowTick, end);
         long oldEnd = planEnd;
         for (long t = nowTick; t <= end; t++) {
             double u = (t - originTick) / stepRatio;
-            curve.evaluate(chunk, points, u, point);
+            curve.evaluate(chunk, points, u, point, pointVelocity, pointAcceleration);
+            for (int d = 0; d < dims; d++) {
+                pointVelocity[d] /= stepRatio;
+                pointAcceleration[d] /= stepRatioSquared;
+            }
             int slot = (int) (t & mask);
             boolean hadPlan = oldEnd != NO_TICK && t <= oldEnd && slotTick[slot] == t;
-            mergeTick(t, slot, point, hadPlan);
+            mergeTick(t, slot, point, pointVelocity, pointAcceleration, hadPlan);
             slotTick[slot] = t;
         }
         planEnd = planEndAfter(end);
@@ -205,7 +230,10 @@ abstract class AbstractChunkBlender implements ChunkBlender {
         return (int) (end - nowTick + 1);
     }
 
-    /** Number of steps j in [0, steps) with j·r before {@code firstOffset} (the arrival), with tolerance. */
+    /**
+     * Number of steps j in [0, steps) with j·r before {@code firstOffset} (the arrival), with tolerance;
+     * {@code steps} is the number of executable steps, so steps that are never executed anyway do not count.
+     */
     private int staleCount(long firstOffset, int steps) {
         if (firstOffset <= 0) {
             return 0;
@@ -227,8 +255,30 @@ abstract class AbstractChunkBlender implements ChunkBlender {
         if (!hasPlan(tick)) {
             return false;
         }
-        readSlot((int) (tick & mask), out);
+        readPosition((int) (tick & mask), out);
         return true;
+    }
+
+    @Override
+    public final boolean stateAt(long tick, double[] position, double[] velocity, double[] acceleration) {
+        checkStateArray("position", position);
+        checkStateArray("velocity", velocity);
+        checkStateArray("acceleration", acceleration);
+        if (position == velocity || position == acceleration || velocity == acceleration) {
+            throw new IllegalArgumentException("stateAt: position, velocity and acceleration must be three different arrays");
+        }
+        if (!hasPlan(tick)) {
+            return false;
+        }
+        readState((int) (tick & mask), position, velocity, acceleration);
+        return true;
+    }
+
+    private void checkStateArray(String name, double[] array) {
+        if (array == null || array.length < dims) {
+            throw new IllegalArgumentException("stateAt: " + name + " must hold at least " + dims + " values, got "
+                    + (array == null ? "null" : array.length + " values"));
+        }
     }
 
     @Override

@@ -86,6 +86,11 @@ public final class ButterworthLowPass implements Smoother {
     }
 
     @Override
+    public ButterworthLowPass fresh() {
+        return new ButterworthLowPass(dims, sampleRateHz, cutoffHz);
+    }
+
+    @Override
     public int dimensions() {
         return dims;
     }

@@ -1,15 +1,17 @@
 package dev.weft.filters;
 
 /**
- * Turns overlapping, late-arriving action chunks into one action per control tick.
+ * Turns overlapping, late-arriving action chunks into one plan: per control tick a position (the action)
+ * and the plan's own velocity and acceleration.
  *
  * <p><b>Threading:</b> an instance is not thread-safe; all calls on one instance, including
  * {@link #reset()} and the counters, must come from one thread (the control-loop thread).
  *
  * <p><b>Allocation:</b> all workspace (a ring of per-tick slots holding at least
- * {@code (maxSteps−1)·r + 1} ticks) is allocated by the static factory; {@link #accept},
- * {@link #actionAt}, {@link #ticksRemaining}, {@link #reset()} and the counters allocate nothing.
- * Only {@link #describeLastRejection()} builds a {@code String}.
+ * {@code (maxSteps−1)·r + 1} ticks, and the interpolation's per-point coefficients) is allocated by the
+ * static factory; {@link #accept}, {@link #actionAt}, {@link #stateAt}, {@link #ticksRemaining},
+ * {@link #reset()} and the counters allocate nothing and never block. Only
+ * {@link #describeLastRejection()} builds a {@code String}.
  *
  * <p><b>Time model:</b> step {@code j} of a chunk whose observation was taken at tick {@code origin}
  * is meant for tick {@code origin + j·r}, where {@code r = Δp/Δc} is the step ratio. The chunk is
@@ -17,6 +19,11 @@ package dev.weft.filters;
  * (n = executable steps) by the blender's {@link Interpolation}; steps whose time lies before
  * {@code nowTick} are stale: never executed, counted in {@link #staleSteps()}. Latency never shifts the
  * plan in time.
+ *
+ * <p><b>Plan state:</b> the plan is a function of time built from the chunks' curves, and
+ * {@link #stateAt} answers its position and its exact first and second derivatives at a tick, in value
+ * units per control tick and per tick² (the blender knows the step ratio, not seconds: multiply by
+ * {@code 1/Δc} and {@code 1/Δc²} for rates per second).
  *
  * <p>Plan queries concern ticks at or after the {@code nowTick} of the latest accepted call: the plan
  * always covers one contiguous run of ticks {@code [nowTick, planEnd]}, and earlier ticks are history
@@ -76,6 +83,36 @@ public interface ChunkBlender {
     boolean actionAt(long tick, double[] out);
 
     /**
+     * Writes the plan's state at {@code tick}: its position (exactly what {@link #actionAt} writes), and
+     * the exact first and second derivatives of the blended curve at that tick, not differences of past
+     * targets. Same coverage as {@link #actionAt}: {@code true} exactly when the plan covers {@code tick}.
+     *
+     * <p>Units: {@code velocity} in value units per control tick, {@code acceleration} in value units per
+     * tick². The blender knows only the step ratio {@code r = Δp/Δc}, not seconds: for rates per second the
+     * caller multiplies the velocity by {@code 1/Δc} and the acceleration by {@code 1/Δc²}. Each chunk's
+     * curve is a function of the fractional step {@code u = (tick − origin)/r}; its derivatives d/du and
+     * d²/du² are divided by {@code r} and {@code r²}. Blends differentiate their weights as well (see the
+     * implementations). Where a curve is not smooth (a {@link Interpolation#LINEAR} or
+     * {@link Interpolation#CUBIC_HERMITE} point, see {@link Interpolation}), the one-sided value stated
+     * there is used.
+     *
+     * <p>Cost O(D), independent of chunk length and overlap; allocation-free; never blocks; control-loop
+     * thread only. Finite unless the accepted values, or their changes per tick, come within a few orders
+     * of magnitude of {@code Double.MAX_VALUE}.
+     *
+     * @param tick         a control tick, normally the current one
+     * @param position     caller-owned, length at least {@code dimensions()}; receives the position
+     * @param velocity     caller-owned, length at least {@code dimensions()}; receives the velocity per tick
+     * @param acceleration caller-owned, length at least {@code dimensions()}; receives the acceleration per tick²
+     * @return {@code true} if the plan covers {@code tick}, and then all three arrays were modified (their
+     *         first {@code dimensions()} values); {@code false} (no plan: starvation, or the tick is
+     *         history) leaves all three untouched
+     * @throws IllegalArgumentException if an array is null or shorter than {@code dimensions()}, or two of
+     *         them are the same array (a programming error, never a data error)
+     */
+    boolean stateAt(long tick, double[] position, double[] velocity, double[] acceleration);
+
+    /**
      * How many consecutive ticks, starting at and including {@code tick}, the plan covers. O(1);
      * allocation-free; control-loop thread only.
      *
@@ -115,7 +152,11 @@ public interface ChunkBlender {
     /** Chunks dropped because the plan already came from a newer observation (latest-chunk, crossfade). */
     long supersededChunks();
 
-    /** Steps (actions) of valid chunks whose time had already passed when they arrived; never executed. */
+    /**
+     * Executable steps (actions) of valid chunks whose time had already passed when they arrived; never
+     * executed. Steps a blender never executes anyway (beyond {@link LatestChunkBlender#executedSteps()})
+     * are not counted.
+     */
     long staleSteps();
 
     /** The negative code of the latest rejection, or 0 if there was none since construction. */

@@ -5,6 +5,12 @@ package dev.weft.filters;
  * chunk replaces the whole plan ahead (including any ticks beyond its own end). Optionally only its first
  * {@code n} steps are executable (the next chunk must arrive before those run out, otherwise the plan
  * starves); stale steps count toward those {@code n}, because the steps are counted from the observation.
+ * Only executable steps are ever counted as stale ({@link #staleSteps()}): steps from {@code n} on are
+ * dropped whatever their time, never stale.
+ *
+ * <p>Plan state ({@link #stateAt}): the newest chunk's own curve and its derivatives. At the arrival of a
+ * new chunk the plan switches to it, so position, velocity and acceleration may jump there; use
+ * {@link CrossfadeBlender} or {@link TemporalEnsembleBlender} for a continuous seam.
  *
  * <p>"Newest" means computed from the newest observation: a chunk whose origin tick is older than the
  * plan's is dropped and counted in {@link #supersededChunks()}. A valid chunk of which no executable
@@ -15,7 +21,9 @@ package dev.weft.filters;
 public final class LatestChunkBlender extends AbstractChunkBlender {
 
     private final int executedSteps;
-    private final double[] values;
+    private final double[] positions;
+    private final double[] velocities;
+    private final double[] accelerations;
 
     private LatestChunkBlender(String kind, int dims, int maxSteps, double stepRatio, Interpolation interpolation,
             int executedSteps) {
@@ -25,7 +33,9 @@ public final class LatestChunkBlender extends AbstractChunkBlender {
                     + executedSteps);
         }
         this.executedSteps = executedSteps;
-        this.values = new double[capacity * dims];
+        this.positions = new double[capacity * dims];
+        this.velocities = new double[capacity * dims];
+        this.accelerations = new double[capacity * dims];
     }
 
     /**
@@ -44,7 +54,8 @@ public final class LatestChunkBlender extends AbstractChunkBlender {
 
     /**
      * Executes at most the first {@code executedSteps} steps of the newest chunk (counted from its
-     * observation, so latency uses some of them up). Parameters as in {@link #of}.
+     * observation, so latency uses some of them up; only those of the first {@code executedSteps} steps
+     * whose time had passed on arrival count as stale). Parameters as in {@link #of}.
      *
      * @param executedSteps in {@code [1, maxSteps]}
      * @throws IllegalArgumentException naming the offending parameter
@@ -70,8 +81,11 @@ public final class LatestChunkBlender extends AbstractChunkBlender {
     }
 
     @Override
-    void mergeTick(long tick, int slot, double[] value, boolean hadPlan) {
-        System.arraycopy(value, 0, values, slot * dims, dims);
+    void mergeTick(long tick, int slot, double[] position, double[] velocity, double[] acceleration, boolean hadPlan) {
+        int base = slot * dims;
+        System.arraycopy(position, 0, positions, base, dims);
+        System.arraycopy(velocity, 0, velocities, base, dims);
+        System.arraycopy(acceleration, 0, accelerations, base, dims);
     }
 
     @Override
@@ -80,7 +94,15 @@ public final class LatestChunkBlender extends AbstractChunkBlender {
     }
 
     @Override
-    void readSlot(int slot, double[] out) {
-        System.arraycopy(values, slot * dims, out, 0, dims);
+    void readPosition(int slot, double[] out) {
+        System.arraycopy(positions, slot * dims, out, 0, dims);
+    }
+
+    @Override
+    void readState(int slot, double[] position, double[] velocity, double[] acceleration) {
+        int base = slot * dims;
+        System.arraycopy(positions, base, position, 0, dims);
+        System.arraycopy(velocities, base, velocity, 0, dims);
+        System.arraycopy(accelerations, base, acceleration, 0, dims);
     }
 }

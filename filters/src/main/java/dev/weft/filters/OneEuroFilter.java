@@ -77,6 +77,11 @@ public final class OneEuroFilter implements Smoother {
     }
 
     @Override
+    public OneEuroFilter fresh() {
+        return new OneEuroFilter(dims, rateHz, minCutoffHz, beta, derivativeCutoffHz);
+    }
+
+    @Override
     public int dimensions() {
         return dims;
     }

@@ -34,4 +34,14 @@ public interface Smoother {
 
     /** Forgets the state; the next {@link #apply} rests at its input first (as {@link #reset(double[])} would). */
     void reset();
+
+    /**
+     * A new smoother of the same kind and parameters with a fresh state, for a companion channel:
+     * the control loop runs the plan's velocity and acceleration through two of them, so the
+     * limiter's feed-forward stays that of the smoothed plan. For a linear time-invariant smoother
+     * (Butterworth) the companions' outputs are exactly the derivatives of the smoothed position;
+     * for an adaptive one (One Euro) each companion adapts to its own input, an approximation the
+     * limiter's feedback absorbs. Allocates; call at construction, never on the tick path.
+     */
+    Smoother fresh();
 }

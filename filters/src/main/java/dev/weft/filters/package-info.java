@@ -1,6 +1,6 @@
 /**
- * Turning a stream of overlapping, late-arriving action chunks into one action per control tick,
- * and optional smoothing of that action.
+ * Turning a stream of overlapping, late-arriving action chunks into one plan (per control tick a
+ * position and the plan's exact velocity and acceleration), and optional smoothing of the action.
  *
  * <p>Time model: control ticks {@code 0, 1, 2, ...} at period {@code Δc}. A chunk of {@code K}
  * actions of {@code D} values at step period {@code Δp = r·Δc} carries the tick {@code t0} of the
@@ -14,7 +14,7 @@
  * {@link dev.weft.filters.OneEuroFilter}.
  *
  * <p>Everything here speaks in primitive arrays, is single-threaded (all calls on one instance from
- * one thread) and allocates nothing after construction, except the methods whose Javadoc says they
- * build a {@code String}.
+ * one thread), never blocks, and allocates nothing after construction, except the methods whose Javadoc
+ * says they build a {@code String}.
  */
 package dev.weft.filters;

@@ -11,8 +11,9 @@ import org.junit.jupiter.params.provider.EnumSource;
  * Each blender against {@link ReferenceBlender} on seeded random schedules: random K, D, step ratio
  * (integer and not), arrival latencies (including chunks that arrive entirely stale and chunks that
  * arrive out of order), gaps with no chunks (starvation), malformed chunks, weight rate m, executed
- * steps and fade length. Every tick compares accept results, counters, the action and the ticks
- * remaining, and also the plan a few ticks ahead.
+ * steps, fade length and taper (for the ensembles: none, the published weights, in a third of the
+ * schedules). Every tick compares accept results, counters, the plan's state (position, velocity and
+ * acceleration) and the ticks remaining, and also the plan a few ticks ahead.
  */
 class BlenderDifferentialTest {
 
@@ -54,17 +55,20 @@ class BlenderDifferentialTest {
         int maxSteps = 1 + rnd.nextInt(stepsLimit);
         double r = !Double.isNaN(ratio) ? ratio
                 : rnd.nextInt(4) == 0 ? 0.3 + 9.7 * rnd.nextDouble() : RATIOS[rnd.nextInt(RATIOS.length)];
-        Interpolation interp = rnd.nextBoolean() ? Interpolation.LINEAR : Interpolation.CUBIC_HERMITE;
+        Interpolation interp = Interpolation.values()[rnd.nextInt(Interpolation.values().length)];
         double m = rnd.nextInt(5) == 0 ? 0.0 : 1.5 * rnd.nextDouble();
         int executed = 1 + rnd.nextInt(maxSteps);
         int fade = rnd.nextInt(1 + maxSteps);
+        double taper = rnd.nextInt(3) == 0 ? 0.0 : 0.5 * maxSteps * rnd.nextDouble();
         ChunkBlender blender;
         switch (kind) {
             case OLDEST_FIRST:
-                blender = TemporalEnsembleBlender.oldestFirst(dims, maxSteps, r, interp, m);
+                blender = taper == 0.0 ? TemporalEnsembleBlender.oldestFirst(dims, maxSteps, r, interp, m)
+                        : TemporalEnsembleBlender.oldestFirst(dims, maxSteps, r, interp, m, taper);
                 break;
             case NEWEST_FIRST:
-                blender = TemporalEnsembleBlender.newestFirst(dims, maxSteps, r, interp, m);
+                blender = taper == 0.0 ? TemporalEnsembleBlender.newestFirst(dims, maxSteps, r, interp, m)
+                        : TemporalEnsembleBlender.newestFirst(dims, maxSteps, r, interp, m, taper);
                 break;
             case LATEST:
                 blender = LatestChunkBlender.firstSteps(dims, maxSteps, r, interp, executed);
@@ -72,11 +76,18 @@ class BlenderDifferentialTest {
             default:
                 blender = CrossfadeBlender.of(dims, maxSteps, r, interp, fade);
         }
-        ReferenceBlender reference = new ReferenceBlender(kind, dims, maxSteps, r, interp, m, executed, fade);
+        boolean ensemble = kind == ReferenceBlender.Kind.OLDEST_FIRST || kind == ReferenceBlender.Kind.NEWEST_FIRST;
+        ReferenceBlender reference = new ReferenceBlender(kind, dims, maxSteps, r, interp, m, executed, fade,
+                ensemble ? taper : 0.0);
         long span = (long) Math.floor((maxSteps - 1) * r + 1e-9);
         double[] chunk = new double[maxSteps * dims + rnd.nextInt(3)];
         double[] got = new double[dims];
         double[] want = new double[dims];
+        double[] gotVelocity = new double[dims];
+        double[] wantVelocity = new double[dims];
+        double[] gotAcceleration = new double[dims];
+        double[] wantAcceleration = new double[dims];
+        double[] action = new double[dims];
         double arrivalRate = minArrivalRate + (maxArrivalRate - minArrivalRate) * rnd.nextDouble();
         long compared = 0;
         long start = rnd.nextInt(30);
@@ -103,13 +114,19 @@ class BlenderDifferentialTest {
             for (long ahead = -1; ahead <= 3; ahead++) {
                 // -1 probes history: ticks before the latest accepted now tick are gone for both.
                 long tick = ahead < 0 ? now - 1 : now + ahead * (1 + rnd.nextInt(5));
-                boolean gotPlan = blender.actionAt(tick, got);
-                boolean wantPlan = reference.actionAt(tick, want);
+                boolean gotPlan = blender.stateAt(tick, got, gotVelocity, gotAcceleration);
+                boolean wantPlan = reference.stateAt(tick, want, wantVelocity, wantAcceleration);
                 assertThat(gotPlan).as("has plan, seed %d now %d tick %d", seed, now, tick).isEqualTo(wantPlan);
+                assertThat(blender.actionAt(tick, action)).isEqualTo(gotPlan);
                 if (gotPlan) {
                     for (int d = 0; d < dims; d++) {
+                        assertThat(action[d]).as("actionAt is stateAt's position").isEqualTo(got[d]);
                         assertThat(got[d]).as("action, seed %d now %d tick %d joint %d", seed, now, tick, d)
                                 .isCloseTo(want[d], within(Tolerances.REFERENCE));
+                        assertThat(gotVelocity[d]).as("velocity, seed %d now %d tick %d joint %d", seed, now, tick, d)
+                                .isCloseTo(wantVelocity[d], within(Tolerances.reference(wantVelocity[d])));
+                        assertThat(gotAcceleration[d]).as("acceleration, seed %d now %d tick %d joint %d", seed, now, tick, d)
+                                .isCloseTo(wantAcceleration[d], within(Tolerances.reference(wantAcceleration[d])));
                     }
                     compared++;
                 }

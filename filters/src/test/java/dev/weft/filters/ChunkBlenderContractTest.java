@@ -4,6 +4,9 @@ import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.assertThatThrownBy;
 import static org.assertj.core.api.Assertions.within;
 
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Random;
 import java.util.stream.Stream;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.Arguments;
@@ -26,6 +29,10 @@ class ChunkBlenderContractTest {
                 Arguments.of("ensemble oldest first", (Factory) (d, k, r, i) -> TemporalEnsembleBlender.oldestFirst(d, k, r, i, 0.1), K),
                 Arguments.of("ensemble newest first", (Factory) (d, k, r, i) -> TemporalEnsembleBlender.newestFirst(d, k, r, i, 0.1), K),
                 Arguments.of("ensemble plain mean", (Factory) (d, k, r, i) -> TemporalEnsembleBlender.oldestFirst(d, k, r, i, 0.0), K),
+                Arguments.of("ensemble oldest first, taper 2 steps",
+                        (Factory) (d, k, r, i) -> TemporalEnsembleBlender.oldestFirst(d, k, r, i, 0.1, 2.0), K),
+                Arguments.of("ensemble newest first, taper 2 steps",
+                        (Factory) (d, k, r, i) -> TemporalEnsembleBlender.newestFirst(d, k, r, i, 0.1, 2.0), K),
                 Arguments.of("latest chunk", (Factory) LatestChunkBlender::of, K),
                 Arguments.of("latest chunk, first 6 steps", (Factory) (d, k, r, i) -> LatestChunkBlender.firstSteps(d, k, r, i, 6), 6),
                 Arguments.of("crossfade over 2 steps", (Factory) (d, k, r, i) -> CrossfadeBlender.of(d, k, r, i, 2), K));
@@ -168,7 +175,8 @@ class ChunkBlenderContractTest {
         ChunkBlender b = factory.create(D, K, 1.0, Interpolation.LINEAR);
         assertThat(b.accept(ramp(K), K, 0, 1000)).isZero();
         assertThat(b.expiredChunks()).isEqualTo(1);
-        assertThat(b.staleSteps()).isEqualTo(K);
+        // Only steps that would have been executed count as stale (latest chunk, first 6: 6 of the 8).
+        assertThat(b.staleSteps()).isEqualTo(executable);
         assertThat(b.acceptedChunks()).isZero();
         assertThat(b.ticksRemaining(1000)).isZero();
         assertThat(b.actionAt(1000, new double[D])).isFalse();
@@ -199,6 +207,151 @@ class ChunkBlenderContractTest {
         assertThatThrownBy(() -> b.actionAt(0, new double[2])).isInstanceOf(IllegalArgumentException.class)
                 .hasMessage("actionAt: out must hold at least 3 values, got 2 values");
         assertThatThrownBy(() -> b.actionAt(0, null)).hasMessage("actionAt: out must hold at least 3 values, got null");
+    }
+
+    @ParameterizedTest(name = "{0}")
+    @MethodSource("blenders")
+    void stateAtHasTheCoverageOfActionAtAndItsPositionIsTheAction(String name, Factory factory, int executable) {
+        ChunkBlender b = factory.create(D, K, 2.5, Interpolation.CUBIC_SPLINE);
+        double[] p = {7, 7, 7};
+        double[] v = {8, 8, 8};
+        double[] a = {9, 9, 9};
+        assertThat(b.stateAt(0, p, v, a)).isFalse();
+        assertThat(p).containsExactly(7, 7, 7);
+        assertThat(v).containsExactly(8, 8, 8);
+        assertThat(a).containsExactly(9, 9, 9);
+        Random rnd = new Random(3);
+        double[] chunk = new double[K * D];
+        double[] action = new double[D];
+        for (long now = 10; now < 80; now++) {
+            if (now % 6 == 0) {
+                for (int i = 0; i < chunk.length; i++) {
+                    chunk[i] = rnd.nextGaussian();
+                }
+                b.accept(chunk, K, now - rnd.nextInt(4), now);
+            }
+            for (long tick = now - 1; tick < now + 25; tick++) {
+                boolean planned = b.actionAt(tick, action);
+                assertThat(b.stateAt(tick, p, v, a)).as("tick %d", tick).isEqualTo(planned);
+                if (planned) {
+                    assertThat(p).as("position at tick %d", tick).containsExactly(action);
+                }
+            }
+        }
+    }
+
+    @ParameterizedTest(name = "{0}")
+    @MethodSource("blenders")
+    void stateAtRefusesArraysThatAreTooShortOrShared(String name, Factory factory, int executable) {
+        ChunkBlender b = factory.create(D, K, 1.0, Interpolation.LINEAR);
+        double[] ok = new double[D];
+        double[] ok2 = new double[D];
+        assertThatThrownBy(() -> b.stateAt(0, new double[2], ok, ok2)).isInstanceOf(IllegalArgumentException.class)
+                .hasMessage("stateAt: position must hold at least 3 values, got 2 values");
+        assertThatThrownBy(() -> b.stateAt(0, ok, null, ok2))
+                .hasMessage("stateAt: velocity must hold at least 3 values, got null");
+        assertThatThrownBy(() -> b.stateAt(0, ok, ok2, new double[1]))
+                .hasMessage("stateAt: acceleration must hold at least 3 values, got 1 values");
+        assertThatThrownBy(() -> b.stateAt(0, ok, ok2, ok))
+                .hasMessage("stateAt: position, velocity and acceleration must be three different arrays");
+    }
+
+    static Stream<Arguments> blendersAndInterpolations() {
+        List<Arguments> all = new ArrayList<>();
+        blenders().forEach(blender -> {
+            for (Interpolation kind : Interpolation.values()) {
+                Object[] args = blender.get();
+                all.add(Arguments.of(args[0] + ", " + kind, args[1], kind));
+            }
+        });
+        return all.stream();
+    }
+
+    /**
+     * The plan's velocity and acceleration from {@code stateAt} are the derivatives of its positions: at
+     * every tick whose seven-tick stencil holds no point where the plan is not smooth (a knot of a chunk's
+     * curve, an arrival or an end, the corners of a taper or a fade), they match the sixth-order central
+     * differences of the positions, {@code (−f₋₃ + 9f₋₂ − 45f₋₁ + 45f₁ − 9f₂ + f₃)/60} and
+     * {@code (2f₋₃ − 27f₋₂ + 270f₋₁ − 490f₀ + 270f₁ − 27f₂ + 2f₃)/180} (the standard central-difference
+     * weights, e.g. Fornberg 1988, "Generation of finite difference formulas on arbitrarily spaced grids").
+     * Chunks disagree with one another (independent random values), so the blends' weight rates matter.
+     */
+    @ParameterizedTest(name = "{0}")
+    @MethodSource("blendersAndInterpolations")
+    void velocityAndAccelerationAreTheDerivativesOfThePlannedPositions(String name, Factory factory, Interpolation kind) {
+        // r = 24: a chunk every 2 steps, 10 ticks late; taper and fade of 2 steps are 48 ticks.
+        double r = 24.0;
+        int period = 48;
+        int latency = 10;
+        int ticks = 640;
+        ChunkBlender b = factory.create(D, K, r, kind);
+        Random rnd = new Random(11);
+        double[] chunk = new double[K * D];
+        double[][] position = new double[ticks][D];
+        double[][] velocity = new double[ticks][D];
+        double[][] acceleration = new double[ticks][D];
+        boolean[] planned = new boolean[ticks];
+        List<Double> corners = new ArrayList<>();
+        long taper = b instanceof TemporalEnsembleBlender ? ((TemporalEnsembleBlender) b).taperTicks() : 0;
+        long fade = b instanceof CrossfadeBlender ? ((CrossfadeBlender) b).fadeTicks() : 0;
+        for (int now = 0; now < ticks; now++) {
+            if (now % period == latency) {
+                long origin = now - latency;
+                for (int i = 0; i < chunk.length; i++) {
+                    chunk[i] = 2.0 * rnd.nextDouble() - 1.0;
+                }
+                int covered = b.accept(chunk, K, origin, now);
+                assertThat(covered).isPositive();
+                long last = now + covered - 1;
+                for (int j = 0; j < K; j++) {
+                    corners.add(origin + j * r);
+                }
+                long ramp = Math.min(taper, (covered + 1) / 2);
+                for (double corner : new double[] {now - 1, now - 0.5, now - 1 + ramp, now + fade, last + 1 - ramp,
+                        last + 0.5, last + 1}) {
+                    corners.add(corner);
+                }
+            }
+            planned[now] = b.stateAt(now, position[now], velocity[now], acceleration[now]);
+        }
+        int checked = 0;
+        double worst = 0;
+        for (int c = 3; c < ticks - 3; c++) {
+            if (!smoothAround(c, 3, corners, planned)) {
+                continue;
+            }
+            for (int d = 0; d < D; d++) {
+                double[] f = new double[7];
+                for (int k = 0; k < 7; k++) {
+                    f[k] = position[c - 3 + k][d];
+                }
+                double first = (-f[0] + 9 * f[1] - 45 * f[2] + 45 * f[4] - 9 * f[5] + f[6]) / 60.0;
+                double second = (2 * f[0] - 27 * f[1] + 270 * f[2] - 490 * f[3] + 270 * f[4] - 27 * f[5] + 2 * f[6]) / 180.0;
+                assertThat(velocity[c][d]).as("velocity, tick %d joint %d", c, d)
+                        .isCloseTo(first, within(Tolerances.FINITE_DIFFERENCE));
+                assertThat(acceleration[c][d]).as("acceleration, tick %d joint %d", c, d)
+                        .isCloseTo(second, within(Tolerances.FINITE_DIFFERENCE));
+                worst = Math.max(worst, Math.abs(velocity[c][d]) + Math.abs(acceleration[c][d]));
+            }
+            checked++;
+        }
+        assertThat(checked).as("ticks checked").isGreaterThan(200);
+        assertThat(worst).as("the plan moves, so the check is not of zeros").isGreaterThan(0.01);
+    }
+
+    /** Whether every tick of [c − h, c + h] has plan and no corner lies strictly inside that interval. */
+    private static boolean smoothAround(int c, int h, List<Double> corners, boolean[] planned) {
+        for (int t = c - h; t <= c + h; t++) {
+            if (!planned[t]) {
+                return false;
+            }
+        }
+        for (double corner : corners) {
+            if (corner > c - h && corner < c + h) {
+                return false;
+            }
+        }
+        return true;
     }
 
     @ParameterizedTest(name = "{0}")

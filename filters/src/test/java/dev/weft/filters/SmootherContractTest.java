@@ -38,6 +38,58 @@ class SmootherContractTest {
 
     @ParameterizedTest(name = "{0}")
     @MethodSource("smoothers")
+    void aFreshCompanionBehavesAsANewSmootherOfTheSameKind(String name, IntFunction<Smoother> factory) {
+        Smoother used = factory.apply(2);
+        Random rnd = new Random(11);
+        double[] out = new double[2];
+        for (int n = 0; n < 100; n++) {
+            used.apply(new double[] {rnd.nextGaussian(), rnd.nextGaussian()}, out);
+        }
+        Smoother companion = used.fresh();
+        Smoother fresh = factory.apply(2);
+        assertThat(companion).isNotSameAs(used).hasSameClassAs(used);
+        assertThat(companion.dimensions()).isEqualTo(2);
+        double[] a = new double[2];
+        double[] b = new double[2];
+        for (int n = 0; n < 300; n++) {
+            double[] in = {rnd.nextGaussian(), 3 + rnd.nextGaussian()};
+            companion.apply(in, a);
+            fresh.apply(in, b);
+            assertThat(a).containsExactly(b);
+        }
+    }
+
+    @org.junit.jupiter.api.Test
+    void aButterworthCompanionGivesTheDerivativeOfTheSmoothedSignal() {
+        // A linear time-invariant filter commutes with differentiation: filtering the plan's velocity
+        // gives the velocity of the filtered plan. Checked on the finite differences of a sampled
+        // cubic, where the difference of the filtered samples equals the filtered differences exactly
+        // up to rounding.
+        ButterworthLowPass position = ButterworthLowPass.of(1, 500.0, 20.0);
+        Smoother velocity = position.fresh();
+        double dt = 1.0 / 500.0;
+        double[] p = new double[1];
+        double[] v = new double[1];
+        double previous = Double.NaN;
+        double worst = 0;
+        for (int n = 0; n < 2000; n++) {
+            double t = n * dt;
+            double x = 0.2 + 0.5 * t - 0.3 * t * t + 0.1 * t * t * t;
+            double xPrevious = n == 0 ? x : 0.2 + 0.5 * (t - dt) - 0.3 * (t - dt) * (t - dt) + 0.1 * Math.pow(t - dt, 3);
+            p[0] = x;
+            v[0] = (x - xPrevious) / dt;
+            position.apply(p, p);
+            velocity.apply(v, v);
+            if (n > 0) {
+                worst = Math.max(worst, Math.abs((p[0] - previous) / dt - v[0]));
+            }
+            previous = p[0];
+        }
+        assertThat(worst).isLessThan(1e-9);
+    }
+
+    @ParameterizedTest(name = "{0}")
+    @MethodSource("smoothers")
     void jointsAreFilteredIndependently(String name, IntFunction<Smoother> factory) {
         Smoother both = factory.apply(2);
         Smoother only = factory.apply(1);
