@@ -32,6 +32,8 @@ final class AxisFilter {
     static final double RATE_TIME_CONSTANT = 0.1;
     /** Time constant with which the feed-forward share recovers once the plan is back inside the bounds, s. */
     static final double FEASIBILITY_RECOVERY = 0.1;
+    /** Time constant of the estimate of how fast the plan moves beyond its own derivatives, s. */
+    static final double DRIFT_TIME_CONSTANT = 0.05;
     /** Multiple of the jerk bound within which the linear zone is entered. */
     static final double ENTRY_SHARE = 1.0;
     /** Multiple of the jerk bound the linear law may ask for, clipped to the bound, before the minimum-time law takes over. */
@@ -82,6 +84,14 @@ final class AxisFilter {
     private final double feasibilityGain;
     /** K B: the feedback gains applied to the jerk's own effect over one tick. */
     private final double kb;
+    /** The acceleration fed forward: the plan's, followed at a rate within the jerk bound. */
+    private double feedAcceleration;
+    /** The plan's position and velocity at the previous tick (clamped as used). */
+    private double previousPlanPosition;
+    private double previousPlanVelocity;
+    /** The rate at which the plan moves beyond its own derivatives, through a first-order lag. */
+    private double drift;
+    private final double driftGain;
     /** Frame rate of the current minimum-time feasibility checks. */
     private double frameRate;
 
@@ -135,6 +145,7 @@ final class AxisFilter {
         this.k3 = k[2];
         this.rateGain = 1.0 - Math.exp(-dt / RATE_TIME_CONSTANT);
         this.feasibilityGain = 1.0 - Math.exp(-dt / FEASIBILITY_RECOVERY);
+        this.driftGain = 1.0 - Math.exp(-dt / DRIFT_TIME_CONSTANT);
         this.kb = k1 * dt * dt * dt / 6.0 + k2 * dt * dt / 2.0 + k3 * dt;
     }
 
@@ -225,6 +236,10 @@ final class AxisFilter {
         havePlan = o.havePlan;
         previousPlanAcceleration = o.previousPlanAcceleration;
         feasibility = o.feasibility;
+        previousPlanPosition = o.previousPlanPosition;
+        previousPlanVelocity = o.previousPlanVelocity;
+        drift = o.drift;
+        feedAcceleration = o.feedAcceleration;
         planRate = o.planRate;
         tracking = o.tracking;
     }
@@ -463,21 +478,38 @@ final class AxisFilter {
             flags |= JerkLimiter.ACCELERATION;
         }
         double jff = 0.0;
-        double ratio = Math.max(Math.abs(pv) / vStrict, Math.abs(pa) / aStrict);
         if (havePlan) {
-            double raw = (fa - previousPlanAcceleration) / dt;
-            ratio = Math.max(ratio, Math.abs(raw) / jUse);
-            jff = raw;
-            if (jff > jUse || jff < -jUse) {
-                jff = jff > 0.0 ? jUse : -jUse;
-                flags |= JerkLimiter.JERK;
+            // the acceleration fed forward follows the plan's at a rate inside the jerk bound: on a
+            // plan inside the bounds it is the plan's own, elsewhere it never leaves the range the
+            // plan's acceleration spans
+            double step = fa - feedAcceleration;
+            double most = jUse * dt;
+            if (step > most || step < -most) {
+                step = step > 0.0 ? most : -most;
             }
+            jff = step / dt;
+            feedAcceleration += step;
             planRate += rateGain * (fv - planRate);
             feasibility += feasibilityGain * (1.0 - feasibility);
+            // how far the plan moved over the tick beyond what its own velocity and acceleration
+            // account for (trapezoid rule with its end correction: exact to O(dt^4) on a smooth
+            // plan): a plan that steps at every new chunk is followed at the rate it really moves
+            double moved = wall - previousPlanPosition;
+            double explained = dt * (0.5 * (fv + previousPlanVelocity) - dt * (fa - previousPlanAcceleration) / 12.0);
+            double mismatch = (moved - explained) / dt;
+            if (mismatch > vStrict || mismatch < -vStrict) {
+                mismatch = mismatch > 0.0 ? vStrict : -vStrict;
+            }
+            drift += driftGain * (mismatch - drift);
         } else {
             planRate = fv;
+            drift = 0.0;
+            feedAcceleration = fa;
             feasibility = 1.0;
         }
+        // a plan beyond the velocity or acceleration bound is fed forward only in part: the share
+        // falls to (FULL / ratio)^2 at once and recovers over FEASIBILITY_RECOVERY
+        double ratio = Math.max(Math.abs(pv) / vStrict, Math.abs(pa) / aStrict);
         if (ratio > FEED_FORWARD_FULL) {
             double share = FEED_FORWARD_FULL / ratio;
             share *= share;
@@ -486,6 +518,8 @@ final class AxisFilter {
             }
         }
         previousPlanAcceleration = fa;
+        previousPlanPosition = wall;
+        previousPlanVelocity = fv;
         havePlan = true;
         boolean planAtRest = fv == 0.0 && fa == 0.0;
         if (planAtRest && v == 0.0 && a == 0.0 && q == wall) {
@@ -494,11 +528,11 @@ final class AxisFilter {
             return flags;
         }
         if (!planAtRest) {
-            // linear zone: state feedback on the error predicted at the end of the tick, with the
-            // plan's derivatives as feed-forward, scaled down while the plan is beyond a bound
+            // linear zone: state feedback on the error predicted at the end of the tick (zero-jerk
+            // prediction q0, v0, a), with the plan's derivatives as feed-forward
             double q0 = q + dt * (v + 0.5 * dt * a);
             double v0 = v + dt * a;
-            double feedForward = (1.0 - kb) * jff + k2 * fv + k3 * fa;
+            double feedForward = (1.0 - kb) * jff + k2 * (fv + drift) + k3 * feedAcceleration;
             double jerk = feasibility * feedForward + k1 * (wall - q0) - k2 * v0 - k3 * a;
             double zone = tracking ? EXIT_SHARE * jUse : ENTRY_SHARE * jUse;
             if (jerk <= zone && jerk >= -zone) {
@@ -511,7 +545,11 @@ final class AxisFilter {
             }
         }
         tracking = false;
-        return commit(flags | minimumTime(wall, planAtRest ? 0.0 : planRate));
+        // far from the plan: the minimum-time law, in the frame of the plan's (lagged) velocity while
+        // the plan is inside the bounds, toward its position alone otherwise: chasing an infeasible
+        // plan in its own frame would amplify it, and a law that never passes its target cannot
+        // leave the range the target spans
+        return commit(flags | minimumTime(wall, planAtRest || feasibility < 1.0 ? 0.0 : planRate));
     }
 
     /** Constant jerk {@code jerk} over the tick if admissible, otherwise the admissible blend closest to it. */
@@ -629,6 +667,7 @@ final class AxisFilter {
         planRate = 0.0;
         previousPlanAcceleration = 0.0;
         feasibility = 1.0;
+        drift = 0.0;
     }
 
     private static int flagOf(int failCode) {

@@ -64,6 +64,8 @@ public final class Supervisor {
     private int lastWatchdogCode;
     private boolean lastTargetFinite = true;
     private long armingTicks;
+    /** After the soft start's ramp: the full-limit limiter closes the gap to the plan before ARMED. */
+    private boolean catchingUp;
     private int lastFlags;
     private int refusedJoint = -1;
     private JerkLimiter active;
@@ -210,6 +212,7 @@ public final class Supervisor {
         powerRemovalRequested = false;
         disarmRequested = false;
         armingTicks = 0;
+        catchingUp = false;
         main.position(armStart);
         transition(tick, timeNanos, SupervisorState.ARMING, Cause.ARM_REQUEST);
         return 0;
@@ -325,17 +328,27 @@ public final class Supervisor {
     }
 
     /**
-     * One tick of the soft start. Its own target goes from the held pose to the plan along the
-     * quintic smooth step {@code f(s) = 10 s^3 - 15 s^4 + 6 s^5} over the ramp, whose first and
-     * second derivatives vanish at both ends, so the soft start's target and its velocity and
-     * acceleration are continuous where it begins and where it hands over. A limiter fault, a
-     * failed hand-over or the timeout seen at this tick makes this tick's command the first of
-     * the stop.
+     * One tick of the soft start. Over the ramp, under the reduced limits, its own target goes from
+     * the held pose to the plan along the quintic smooth step {@code f(s) = 10 s^3 - 15 s^4 + 6 s^5},
+     * whose first and second derivatives vanish at both ends, so the target and its velocity and
+     * acceleration are continuous where it begins and where it joins the plan. After the ramp the
+     * full-limit limiter takes the state over (the bounds only widen, so the commands stay within
+     * them) and closes what gap is left to the plan; the state is ARMED once every joint is within
+     * the arming tolerance of the plan. A limiter fault or the timeout seen at this tick makes this
+     * tick's command the first of the stop.
      */
     private void stepArming(long tick, long timeNanos, double[] target, double[] targetVelocity,
             double[] targetAcceleration, double[] command) {
-        active = soft;
         armingTicks++;
+        if (!catchingUp && armingRampTicks > 0 && armingTicks > armingRampTicks) {
+            if (!main.resetFrom(soft)) {
+                startStop(tick, timeNanos, Cause.LIMITER_FAULT, command, true);
+                return;
+            }
+            catchingUp = true;
+        }
+        JerkLimiter limiter = catchingUp ? main : soft;
+        active = limiter;
         double[] goal = target;
         double[] goalVelocity = targetVelocity;
         double[] goalAcceleration = targetAcceleration;
@@ -355,39 +368,30 @@ public final class Supervisor {
             goalVelocity = rampVelocity;
             goalAcceleration = rampAcceleration;
         }
-        soft.saveState(saved);
-        lastFlags = soft.apply(goal, goalVelocity, goalAcceleration, command);
+        limiter.saveState(saved);
+        lastFlags = limiter.apply(goal, goalVelocity, goalAcceleration, command);
         if ((lastFlags & JerkLimiter.FAULT_FLAGS) != 0) {
             int flags = lastFlags;
-            soft.restoreState(saved);
-            startStop(tick, timeNanos, Cause.LIMITER_FAULT, command, true);
+            limiter.restoreState(saved);
+            startStop(tick, timeNanos, Cause.LIMITER_FAULT, command, !catchingUp);
             lastFlags |= flags;
-        } else if (armingRampTicks > 0 ? armingTicks >= armingRampTicks && withinOffset(target)
-                : withinTolerance(target)) {
-            if (main.resetFrom(soft)) {
+        } else if (armingTicks >= armingRampTicks && withinTolerance(limiter, target)) {
+            if (catchingUp || main.resetFrom(soft)) {
+                active = main;
                 transition(tick, timeNanos, SupervisorState.ARMED, Cause.ARMING_COMPLETE);
             } else {
                 soft.restoreState(saved);
                 startStop(tick, timeNanos, Cause.LIMITER_FAULT, command, true);
             }
         } else if (armingTicks >= armingTimeoutTicks) {
-            soft.restoreState(saved);
-            startStop(tick, timeNanos, Cause.ARMING_TIMEOUT, command, true);
+            limiter.restoreState(saved);
+            startStop(tick, timeNanos, Cause.ARMING_TIMEOUT, command, !catchingUp);
         }
     }
 
-    private boolean withinOffset(double[] target) {
+    private boolean withinTolerance(JerkLimiter limiter, double[] target) {
         for (int i = 0; i < joints; i++) {
-            if (!(Math.abs(soft.position(i) - target[i]) <= maxArmingOffset[i])) {
-                return false;
-            }
-        }
-        return true;
-    }
-
-    private boolean withinTolerance(double[] target) {
-        for (int i = 0; i < joints; i++) {
-            if (!(Math.abs(soft.position(i) - target[i]) <= armingTolerance)) {
+            if (!(Math.abs(limiter.position(i) - target[i]) <= armingTolerance)) {
                 return false;
             }
         }
@@ -444,7 +448,7 @@ public final class Supervisor {
         private double armAcceleration = 0.25;
         private double armJerk = 0.25;
         private double[] maxArmingOffset;
-        private double armingTolerance = 1e-3;
+        private double armingTolerance = 1e-2;
         private long armingTimeoutTicks;
         private long armingRampTicks;
         private TransitionListener listener = TransitionListener.NONE;

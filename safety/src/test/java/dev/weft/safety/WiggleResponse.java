@@ -17,14 +17,18 @@ final class WiggleResponse {
 
     /** Peak-to-peak of the command's deviation from the hold pose over the window, divided by the target's. */
     final double gain;
-    /** Largest DFT amplitude of the command at a frequency other than the wiggle's, over the wiggle's amplitude. */
+    /** Largest DFT amplitude of the command at a frequency neither the wiggle's nor a multiple of it, over the wiggle's amplitude. */
     final double otherFrequencies;
     /** Share of the window's ticks with the jerk flag set. */
     final double jerkFlagged;
     /** Largest |command - target| over the window. */
     final double largestError;
 
-    private WiggleResponse(double gain, double otherFrequencies, double jerkFlagged, double largestError) {
+    /** Largest DFT amplitude at a multiple of the wiggle's frequency (a harmonic), over the wiggle's amplitude. */
+    final double harmonics;
+
+    private WiggleResponse(double gain, double otherFrequencies, double jerkFlagged, double largestError, double harmonics) {
+        this.harmonics = harmonics;
         this.gain = gain;
         this.otherFrequencies = otherFrequencies;
         this.jerkFlagged = jerkFlagged;
@@ -82,9 +86,11 @@ final class WiggleResponse {
                 }
             }
         }
-        // plain DFT over the window; the wiggle's own bin is the one at 'hertz'
+        // plain DFT over the window; the wiggle's own bin is the one at 'hertz', its harmonics the
+        // multiples of it
         int own = (int) Math.round(hertz * WINDOW_SECONDS);
         double other = 0;
+        double harmonic = 0;
         for (int b = 1; b < window / 2; b++) {
             if (b == own) {
                 continue;
@@ -96,8 +102,13 @@ final class WiggleResponse {
                 re += dev[i] * Math.cos(angle);
                 im += dev[i] * Math.sin(angle);
             }
-            other = Math.max(other, 2 * Math.hypot(re, im) / window);
+            double amp = 2 * Math.hypot(re, im) / window;
+            if (b % own == 0) {
+                harmonic = Math.max(harmonic, amp);
+            } else {
+                other = Math.max(other, amp);
+            }
         }
-        return new WiggleResponse((hi - lo) / (thi - tlo), other / amplitude, flagged / (double) window, largestError);
+        return new WiggleResponse((hi - lo) / (thi - tlo), other / amplitude, flagged / (double) window, largestError, harmonic / amplitude);
     }
 }
