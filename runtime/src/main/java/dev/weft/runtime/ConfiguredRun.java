@@ -130,8 +130,10 @@ public final class ConfiguredRun {
         double r = config.timing().stepRatio();
         return switch (b.method()) {
             case ENSEMBLE -> b.favour() == BlendingConfig.Favour.OLDEST
-                    ? TemporalEnsembleBlender.oldestFirst(d, steps, r, b.interpolation(), b.weightRate())
-                    : TemporalEnsembleBlender.newestFirst(d, steps, r, b.interpolation(), b.weightRate());
+                    ? TemporalEnsembleBlender.oldestFirst(d, steps, r, b.interpolation(), b.weightRate(),
+                            b.taperSteps(steps))
+                    : TemporalEnsembleBlender.newestFirst(d, steps, r, b.interpolation(), b.weightRate(),
+                            b.taperSteps(steps));
             case LATEST -> b.executedSteps() > 0
                     ? LatestChunkBlender.firstSteps(d, steps, r, b.interpolation(), b.executedSteps())
                     : LatestChunkBlender.of(d, steps, r, b.interpolation());

@@ -4,6 +4,7 @@ import dev.weft.filters.ChunkBlender;
 import dev.weft.filters.Interpolation;
 import dev.weft.filters.Smoother;
 import dev.weft.filters.TemporalEnsembleBlender;
+import dev.weft.runtime.config.BlendingConfig;
 import dev.weft.runtime.loop.ControlLoop;
 import dev.weft.runtime.loop.Inference;
 import dev.weft.runtime.loop.InferenceWorker;
@@ -448,8 +449,9 @@ public final class Weft implements AutoCloseable {
             }
             long periodNanos = Math.round(period * 1e9);
             ChunkBlender b = blender != null ? blender
-                    : TemporalEnsembleBlender.oldestFirst(joints, policy.chunkLength(), stepRatio, Interpolation.LINEAR,
-                            0.01);
+                    : TemporalEnsembleBlender.oldestFirst(joints, policy.chunkLength(), stepRatio,
+                            Interpolation.CUBIC_SPLINE, BlendingConfig.DEFAULT_WEIGHT_RATE,
+                            BlendingConfig.DEFAULTS.taperSteps(policy.chunkLength()));
             if (b.dimensions() != joints) {
                 throw new IllegalArgumentException("the blender has " + b.dimensions() + " dimensions for " + joints
                         + " joints");

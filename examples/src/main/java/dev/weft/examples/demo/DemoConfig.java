@@ -39,7 +39,7 @@ public final class DemoConfig {
      * cubic Hermite 0.0220 rad; the limiter's lag behind the blended target (about 0.03 rad on
      * lift and twist) dominates either way.
      */
-    public static final String INTERPOLATION = "linear";
+    public static final String INTERPOLATION = "cubic_spline";
 
     /**
      * {@code gates.rms_error_max}, rad, every joint: the clean episodes' dry runs reach 0.045 at

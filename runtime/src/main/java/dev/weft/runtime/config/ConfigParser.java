@@ -369,6 +369,8 @@ final class ConfigParser {
         }
         double weightRate = d.weightRate();
         BlendingConfig.Favour favour = d.favour();
+        BlendingConfig.Weights weights = d.weights();
+        double taper = d.taperSteps();
         int executed = 0;
         int fade = 0;
         switch (method) {
@@ -378,9 +380,18 @@ final class ConfigParser {
                     Double m = e.nonNegative("weight_rate", d.weightRate());
                     BlendingConfig.Favour f = e.choice("favour", BlendingConfig.Favour.values(),
                             BlendingConfig.Favour::label, d.favour());
+                    BlendingConfig.Weights w = e.choice("weights", BlendingConfig.Weights.values(),
+                            BlendingConfig.Weights::label, d.weights());
+                    Double t = e.has("taper_steps") ? e.nonNegative("taper_steps", null) : null;
+                    if (w == BlendingConfig.Weights.PUBLISHED && e.has("taper_steps")) {
+                        e.problem("taper_steps", "is given but blending.ensemble.weights is published, which has no"
+                                + " taper; remove it or use weights: tapered");
+                    }
                     e.done();
                     weightRate = m == null ? weightRate : m;
                     favour = f == null ? favour : f;
+                    weights = w == null ? weights : w;
+                    taper = t == null ? taper : t;
                 }
             }
             case LATEST -> {
@@ -406,7 +417,7 @@ final class ConfigParser {
         if (r.count() != before) {
             return null;
         }
-        return new BlendingConfig(method, interpolation, weightRate, favour, executed, fade);
+        return new BlendingConfig(method, interpolation, weightRate, favour, executed, fade, weights, taper);
     }
 
     private SmoothingConfig smoothing(Section s, boolean given) {

@@ -84,6 +84,14 @@ public final class ControlLoop implements AutoCloseable {
     private final double[] observation;
     private final double[] measured;
     private final double[] target;
+    /** The plan's velocity at this tick, units/s. */
+    private final double[] targetVelocity;
+    /** The plan's acceleration at this tick, units/s^2. */
+    private final double[] targetAcceleration;
+    private final Smoother velocitySmoother;
+    private final Smoother accelerationSmoother;
+    /** Control ticks per second. */
+    private final double tickRate;
     private final double[] command;
     private final double[] previousCommand;
     private final double periodSeconds;
@@ -151,6 +159,10 @@ public final class ControlLoop implements AutoCloseable {
         this.worker = worker;
         this.blender = blender;
         this.smoother = smoother;
+        // a smoother is linear (or close to it), so the plan's derivatives go through copies of it:
+        // exactly the derivatives of the smoothed plan for a linear time-invariant filter
+        this.velocitySmoother = smoother == null ? null : smoother.fresh();
+        this.accelerationSmoother = smoother == null ? null : smoother.fresh();
         this.watchdog = watchdog;
         this.supervisorFactory = supervisorFactory;
         this.stopCategory = stopCategory;
@@ -172,9 +184,12 @@ public final class ControlLoop implements AutoCloseable {
         this.observation = new double[source.size()];
         this.measured = new double[joints];
         this.target = new double[joints];
+        this.targetVelocity = new double[joints];
+        this.targetAcceleration = new double[joints];
         this.command = new double[joints];
         this.previousCommand = new double[joints];
         this.periodSeconds = settings.periodNanos() / 1e9;
+        this.tickRate = 1e9 / settings.periodNanos();
         this.frame = new CommandFrame(joints);
         primeRecorders();
     }
@@ -301,15 +316,26 @@ public final class ControlLoop implements AutoCloseable {
         sink.now = n;
         worker.drain(n, sink);
 
-        // 4 target, 5 smoothing
-        boolean planned = blender.actionAt(n, target);
+        // 4 the plan's state at this tick, 5 smoothing
+        boolean planned = blender.stateAt(n, target, targetVelocity, targetAcceleration);
         long remaining = blender.ticksRemaining(n);
         if (!planned) {
             for (int i = 0; i < joints; i++) {
                 target[i] = Double.NaN;
+                targetVelocity[i] = 0.0;
+                targetAcceleration[i] = 0.0;
             }
-        } else if (smoother != null) {
-            smoother.apply(target, target);
+        } else {
+            // the blender speaks per control tick; the limiter per second
+            for (int i = 0; i < joints; i++) {
+                targetVelocity[i] *= tickRate;
+                targetAcceleration[i] *= tickRate * tickRate;
+            }
+            if (smoother != null) {
+                smoother.apply(target, target);
+                velocitySmoother.apply(targetVelocity, targetVelocity);
+                accelerationSmoother.apply(targetAcceleration, targetAcceleration);
+            }
         }
 
         if (autoArmPending && planned && watchdog.lastCode() == 0 && supervisor.state() == SupervisorState.DISARMED) {
@@ -331,7 +357,7 @@ public final class ControlLoop implements AutoCloseable {
         // 6 limiter, inside the supervisor: hold when disarmed or faulted, soft start, stop. Without
         // a plan the target is NaN, which the supervisor treats as a fault while moving and ignores
         // while holding, so starvation stops the robot even with PLAN_STARVED switched off.
-        SupervisorState s = supervisor.step(n, deadline - t0, target, code, command);
+        SupervisorState s = supervisor.step(n, deadline - t0, target, targetVelocity, targetAcceleration, code, command);
 
         // 8 emit (invariant 2: nothing non-finite reaches the port)
         frame.tick = n;

@@ -125,7 +125,8 @@ class WeftConfigTest {
                 new SessionSettings(2, SessionSettings.Optimization.BASIC, true, 5)));
         assertThat(List.copyOf(c.policySpec().inputs().keySet())).containsExactly("obs", "noise", "step");
         assertThat(c.blending()).isEqualTo(new BlendingConfig(BlendingConfig.Method.ENSEMBLE,
-                Interpolation.CUBIC_HERMITE, 0.05, BlendingConfig.Favour.NEWEST, 0, 0));
+                Interpolation.CUBIC_HERMITE, 0.05, BlendingConfig.Favour.NEWEST, 0, 0, BlendingConfig.Weights.TAPERED,
+                Double.NaN));
         assertThat(c.smoothing()).isEqualTo(new SmoothingConfig(SmoothingConfig.Method.ONE_EURO, 0, 2.0, 0.3, 1.5));
         assertThat(c.watchdog()).isEqualTo(new WatchdogConfig(0.01, 0.02, 0.08, 3, List.of(
                 new WatchdogConfig.Disabled(WatchdogConfig.Condition.INFERENCE_LATENCY,
@@ -212,12 +213,34 @@ class WeftConfigTest {
     }
 
     @Test
+    void ensembleWeightsAreTaperedByDefaultAndPublishedOnRequest() throws Exception {
+        WeftConfig d = parse(VALID);
+        assertThat(d.blending().interpolation()).isEqualTo(Interpolation.CUBIC_SPLINE);
+        assertThat(d.blending().weights()).isEqualTo(BlendingConfig.Weights.TAPERED);
+        // the default taper: half the chunk in whole steps, at least one step
+        assertThat(d.blending().taperSteps(12)).isEqualTo(6.0);
+        assertThat(d.blending().taperSteps(3)).isEqualTo(1.0);
+        assertThat(d.blending().taperSteps(1)).isEqualTo(1.0);
+        WeftConfig t = parse(VALID + "blending: {ensemble: {taper_steps: 2.5}}\n");
+        assertThat(t.blending().taperSteps(12)).isEqualTo(2.5);
+        WeftConfig p = parse(VALID + "blending: {ensemble: {weights: published}}\n");
+        assertThat(p.blending().weights()).isEqualTo(BlendingConfig.Weights.PUBLISHED);
+        assertThat(p.blending().taperSteps(12)).isZero();
+        assertThat(problems(VALID + "blending: {ensemble: {weights: published, taper_steps: 2}}\n")).containsExactly(
+                "blending.ensemble.taper_steps (line 35): is given but blending.ensemble.weights is published,"
+                        + " which has no taper; remove it or use weights: tapered");
+        assertThat(problems(VALID + "blending: {ensemble: {weights: exact}}\n")).hasSize(1)
+                .allMatch(m -> m.contains("blending.ensemble.weights") && m.contains("tapered") && m.contains("published"));
+    }
+
+    @Test
     void blendingAndSmoothingMethodsReadTheirOwnSection() throws Exception {
         String latest = VALID + "blending: {method: latest, latest: {executed_steps: 6}}\n"
                 + "smoothing: {method: butterworth, butterworth: {cutoff: 20}}\n";
         WeftConfig a = parse(latest);
-        assertThat(a.blending()).isEqualTo(new BlendingConfig(BlendingConfig.Method.LATEST, Interpolation.LINEAR,
-                BlendingConfig.DEFAULT_WEIGHT_RATE, BlendingConfig.Favour.OLDEST, 6, 0));
+        assertThat(a.blending()).isEqualTo(new BlendingConfig(BlendingConfig.Method.LATEST, Interpolation.CUBIC_SPLINE,
+                BlendingConfig.DEFAULT_WEIGHT_RATE, BlendingConfig.Favour.OLDEST, 6, 0, BlendingConfig.Weights.TAPERED,
+                Double.NaN));
         assertThat(a.smoothing()).isEqualTo(new SmoothingConfig(SmoothingConfig.Method.BUTTERWORTH, 20, 0, 0, 0));
 
         WeftConfig b = parse(VALID + "blending: {method: crossfade, crossfade: {fade_steps: 3}}\n");

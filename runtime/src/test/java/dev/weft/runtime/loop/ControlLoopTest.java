@@ -161,8 +161,12 @@ class ControlLoopTest {
         loop.prepare();
         runTicks(loop, 5);
         int[] armed = {Cause.ARM_REFUSED_NO_PLAN};
-        // the plan covers only 16 of every 200 ticks: ask again until the request lands inside it
+        // the plan covers only 16 of every 200 ticks: ask while a fresh chunk still has most of its
+        // ticks ahead, so the request lands inside it however the threads are scheduled
         for (int attempt = 0; attempt < 50 && armed[0] == Cause.ARM_REFUSED_NO_PLAN; attempt++) {
+            for (int k = 0; k < 400 && loop.status().planTicks() < 12; k++) {
+                loop.runTick();
+            }
             Thread armer = new Thread(() -> armed[0] = loop.arm(5_000_000_000L));
             armer.start();
             while (armer.isAlive()) {
