@@ -40,6 +40,11 @@ final class AxisFilter {
     static final double EXIT_SHARE = 3.0;
     /** Share of a bound up to which the plan's derivatives are fed forward in full; beyond it the share falls as (FULL / ratio)^2. */
     static final double FEED_FORWARD_FULL = 0.9;
+    /**
+     * Share of the acceleration bound by which the acceleration fed forward may lag the plan's (its
+     * jerk beyond the bound) before the minimum-time law stops moving in the plan's frame.
+     */
+    static final double FOLLOW_DEFICIT = 0.05;
 
     private final double dt;
     /** Operating range used for planning (already shrunk by the rounding slack). */
@@ -92,6 +97,8 @@ final class AxisFilter {
     /** The rate at which the plan moves beyond its own derivatives, through a first-order lag. */
     private double drift;
     private final double driftGain;
+    /** 1 while the plan's jerk has lately stayed within the bound, falling to 0 when it did not. */
+    private double followable = 1.0;
     /** Frame rate of the current minimum-time feasibility checks. */
     private double frameRate;
 
@@ -236,6 +243,7 @@ final class AxisFilter {
         havePlan = o.havePlan;
         previousPlanAcceleration = o.previousPlanAcceleration;
         feasibility = o.feasibility;
+        followable = o.followable;
         previousPlanPosition = o.previousPlanPosition;
         previousPlanVelocity = o.previousPlanVelocity;
         drift = o.drift;
@@ -510,6 +518,12 @@ final class AxisFilter {
         // a plan beyond the velocity or acceleration bound is fed forward only in part: the share
         // falls to (FULL / ratio)^2 at once and recovers over FEASIBILITY_RECOVERY
         double ratio = Math.max(Math.abs(pv) / vStrict, Math.abs(pa) / aStrict);
+        // whether the plan's jerk was within the bound lately: its own frame is fit for the
+        // minimum-time law only then
+        followable += feasibilityGain * (1.0 - followable);
+        if (Math.abs(fa - feedAcceleration) > FOLLOW_DEFICIT * aStrict) {
+            followable = 0.0;
+        }
         if (ratio > FEED_FORWARD_FULL) {
             double share = FEED_FORWARD_FULL / ratio;
             share *= share;
@@ -549,7 +563,7 @@ final class AxisFilter {
         // the plan is inside the bounds, toward its position alone otherwise: chasing an infeasible
         // plan in its own frame would amplify it, and a law that never passes its target cannot
         // leave the range the target spans
-        return commit(flags | minimumTime(wall, planAtRest || feasibility < 1.0 ? 0.0 : planRate));
+        return commit(flags | minimumTime(wall, planAtRest || feasibility < 1.0 || followable < 1.0 ? 0.0 : planRate));
     }
 
     /** Constant jerk {@code jerk} over the tick if admissible, otherwise the admissible blend closest to it. */
@@ -667,6 +681,7 @@ final class AxisFilter {
         planRate = 0.0;
         previousPlanAcceleration = 0.0;
         feasibility = 1.0;
+        followable = 1.0;
         drift = 0.0;
     }
 
