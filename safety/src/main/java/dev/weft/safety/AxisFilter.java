@@ -6,11 +6,10 @@ package dev.weft.safety;
  *
  * <p>The commanded trajectory is a continuous-time chain of three integrators whose jerk is
  * piecewise constant. Each tick advances it by exactly one control period; the emitted command is
- * the position sample at the end of the tick. Within a tick the jerk is a blend
- * {@code (1 - lambda) * brake(t) + lambda * dir * J} of the time-optimal stopping profile of the
- * current state and a full jerk toward the target; {@code lambda} is the largest value in [0, 1]
- * whose successor state still satisfies every bound and, seen from the target moving on at its
- * last rate, can still come to rest without passing it.
+ * the position sample at the end of the tick. Within a tick the jerk is {@code keep * brake(t) +
+ * push}, a blend of the time-optimal stopping profile of the current state and a constant jerk: the
+ * linear zone's jerk near the plan ({@link #follow}), a full jerk toward the target far from it,
+ * as large as the shield ({@link #feasible}) admits.
  *
  * <p>All fields are scratch or state owned by the single control thread. No method allocates.
  */

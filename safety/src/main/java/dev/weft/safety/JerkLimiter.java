@@ -8,27 +8,35 @@ package dev.weft.safety;
  * {@code j[n] = (a[n] - a[n-1]) / dt}, never exceed the velocity, acceleration and jerk bounds.
  *
  * <h2>Method</h2>
- * The law toward a constant target is the minimum-time profile of a third-order chain of
- * integrators with bounded velocity, acceleration and jerk: the double-S profile of Biagiotti and
- * Melchiorri, <i>Trajectory Planning for Automatic Machines and Robots</i>, Springer 2008,
- * Section 3.4, in the feedback form of the online trajectory filters of their Chapter 4 (after
- * Zanasi, Guarino Lo Bianco and Tonielli, "Nonlinear filters for the generation of smooth
- * trajectories", Automatica 36, 2000): accelerate as hard as the bounds allow for as long as the
- * time-optimal stop from the next state still comes to rest at or before the target, then follow
- * that stop. Each joint keeps the state (q, v, a) of a continuous trajectory whose jerk is
- * piecewise constant; every tick the jerk over the next period is the blend
- * {@code (1 - lambda) * stop(t) + lambda * (+-J)} of the time-optimal stop of the current state and
- * a full jerk toward the target, with the largest {@code lambda} in [0, 1] (found by bisection)
- * whose successor keeps |a| and |v| inside their bounds for the whole tick and can still stop
- * inside the position range with a speed inside its bound. The stop itself is always admissible,
- * so a valid choice always exists.
+ * Each joint keeps the state (q, v, a) of a continuous trajectory whose jerk is piecewise constant
+ * and chooses the jerk of every tick in two steps, a shield and a nominal law.
  *
- * <p>A plan is a moving target. As in the trajectory filters, which act on the tracking error and
- * its derivatives, the target condition is taken in the frame of the target moving on at its last
- * rate (the finite difference of the last two targets, clamped to the velocity bound): the
- * successor must come to rest in that frame at or before the target. For a constant target this is
- * the double-S law above; a ramp is followed without lag once matched. The bound checks always use
- * the absolute stop, so the target's rate never loosens a bound.
+ * <p><b>The shield.</b> The time-optimal stop of the current state (the double-S deceleration of
+ * Biagiotti and Melchiorri, <i>Trajectory Planning for Automatic Machines and Robots</i>, Springer
+ * 2008, Section 3.4) is always admissible. Another jerk for the tick is admissible when the
+ * successor keeps |a| and |v| inside their bounds for the whole tick and can still stop inside the
+ * position range with a speed inside its bound; one that is not is replaced by the admissible blend
+ * {@code (1 - mu) * stop(t) + mu * jerk} with the largest {@code mu} found by bisection. A valid
+ * choice always exists.
+ *
+ * <p><b>The nominal law</b> follows the plan's state (position, velocity, acceleration: {@link
+ * #apply(double[], double[], double[], double[])}). Near the plan it is linear: state feedback on
+ * the error predicted at the end of the tick, with the closed-loop poles of the sampled triple
+ * integrator placed at {@code exp(-w dt)}, w = 4, 12 and 40 rad/s (Ackermann's formula), and the
+ * plan's own derivatives fed forward, the tracking filters on the error with the reference's
+ * velocity and acceleration of Biagiotti and Melchiorri's Chapter 4 in sampled, linear form. On a
+ * plan inside the bounds the command is the plan. The acceleration fed forward follows the plan's
+ * at a rate inside the jerk bound; the share fed forward falls while the plan's velocity or
+ * acceleration is beyond 0.9 of its bound, so an infeasible plan is averaged rather than chased;
+ * and the rate at which the plan moves beyond its own derivatives (a plan re-planned at every
+ * chunk steps) is estimated from its positions and fed forward too. Far from the plan, where the
+ * linear law would ask for more than three times the jerk bound, and for every set point ({@link
+ * #apply(double[], double[])}), the law is minimum-time, as the online trajectory filters of their
+ * Chapter 4 (after Zanasi, Guarino Lo Bianco and Tonielli, Automatica 36, 2000): the largest blend
+ * {@code (1 - lambda) * stop(t) + lambda * (+-J)} whose successor can still come to rest at or
+ * before the target, in the frame of the plan moving on at its lagged velocity while the plan has
+ * lately been followable, toward its position alone otherwise. For a constant target this is the
+ * double-S law.
  *
  * <h2>What was changed for the discrete-time bounds</h2>
  * <ul>
@@ -48,7 +56,8 @@ package dev.weft.safety;
  * <h2>Flags</h2>
  * {@link #apply} returns, and {@link #flags(int)} gives per joint, which bound shaped the command
  * this tick: {@link #POSITION} (target outside the operating range, or braking for a position
- * bound), {@link #VELOCITY}, {@link #ACCELERATION}, {@link #JERK} (full jerk toward the target),
+ * bound), {@link #VELOCITY}, {@link #ACCELERATION} (the plan beyond the bound, or the shield clipped
+ * for it), {@link #JERK} (the jerk at its bound),
  * plus the fault flags {@link #NON_FINITE_TARGET} (the joint ignored its target and braked to a
  * hold), {@link #NOT_VIABLE} (the state could not be kept inside the bounds; seen only after a reset
  * to a state that cannot stop in range) and {@link #POSITION_CLAMPED} (last-resort clamp; never
@@ -65,7 +74,7 @@ public final class JerkLimiter {
     public static final int VELOCITY = 1 << 1;
     /** The acceleration bound shaped the command. */
     public static final int ACCELERATION = 1 << 2;
-    /** The jerk bound shaped the command (full jerk toward the target). */
+    /** The jerk bound shaped the command (the jerk is at its bound). */
     public static final int JERK = 1 << 3;
     /** The target was NaN or infinite; the joint braked to a hold instead. A fault. */
     public static final int NON_FINITE_TARGET = 1 << 4;
