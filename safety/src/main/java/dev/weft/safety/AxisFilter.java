@@ -156,12 +156,13 @@ final class AxisFilter {
     }
 
     /**
-     * State-feedback gains {@code K} for the error of the jerk-driven triple integrator sampled at
-     * {@code dt} with the jerk held over each tick (zero-order hold), error taken at the end of
-     * the tick ({@code e[n+1] = A (I - B K) e[n]}), placing the closed-loop poles at
-     * {@code exp(-w dt)} for the three {@link #POLES} by Ackermann's formula: {@code K' = [0 0 1]
-     * C^-1 phi(A)} with {@code C = [AB, A^2 B, A^3 B]} and {@code phi} the desired characteristic
-     * polynomial, which gives {@code A K} ... see the body for the exact form.
+     * State-feedback gains {@code K = (k1, k2, k3)} of the linear zone. The limiter is the
+     * jerk-driven triple integrator sampled at {@code dt} with the jerk held over each tick
+     * ({@code x[n+1] = A x[n] + B u[n]}); the law acts on the error predicted at the end of the
+     * tick, so the error evolves as {@code e[n+1] = A (I - B K) e[n] = (A - (A B) K) e[n]}. The gains
+     * place the poles of {@code A - (A B) K} at {@code exp(-w dt)} for the three {@link #POLES}, by
+     * Ackermann's formula for the pair {@code (A, A B)}: {@code K = [0 0 1] C^-1 phi(A)} with
+     * {@code C = [A B, A^2 B, A^3 B]} and {@code phi} the wanted characteristic polynomial.
      */
     static double[] linearZoneGains(double dt) {
         double h = dt;
@@ -514,15 +515,15 @@ final class AxisFilter {
             feedAcceleration = fa;
             feasibility = 1.0;
         }
-        // a plan beyond the velocity or acceleration bound is fed forward only in part: the share
-        // falls to (FULL / ratio)^2 at once and recovers over FEASIBILITY_RECOVERY
-        double ratio = Math.max(Math.abs(pv) / vStrict, Math.abs(pa) / aStrict);
         // whether the plan's jerk was within the bound lately: its own frame is fit for the
         // minimum-time law only then
         followable += feasibilityGain * (1.0 - followable);
         if (Math.abs(fa - feedAcceleration) > FOLLOW_DEFICIT * aStrict) {
             followable = 0.0;
         }
+        // a plan beyond the velocity or acceleration bound is fed forward only in part: the share
+        // falls to (FULL / ratio)^2 at once and recovers over FEASIBILITY_RECOVERY
+        double ratio = Math.max(Math.abs(pv) / vStrict, Math.abs(pa) / aStrict);
         if (ratio > FEED_FORWARD_FULL) {
             double share = FEED_FORWARD_FULL / ratio;
             share *= share;
