@@ -576,12 +576,21 @@ final class AxisFilter {
             simulateTick(1.0, 0.0);
             return JerkLimiter.NOT_VIABLE;
         }
+        return bisect(jerk, 0, 0.0, full, TRACK_BISECTION_STEPS);
+    }
+
+    /**
+     * The largest share {@code mu} in [0, 1), to {@code steps} halvings, whose tick under
+     * {@code (1 - mu) * brake(t) + mu * push} is feasible (the stop itself, mu = 0, is); leaves
+     * that successor in nq, nv, na and returns the flag of the bound that stopped a larger share.
+     */
+    private int bisect(double push, int dir, double wall, int failCode, int steps) {
         double lo = 0.0;
         double hi = 1.0;
-        int hiCode = full;
-        for (int i = 0; i < TRACK_BISECTION_STEPS; i++) {
+        int hiCode = failCode;
+        for (int i = 0; i < steps; i++) {
             double mid = 0.5 * (lo + hi);
-            int c = feasible(1.0 - mid, mid * jerk, 0, 0.0, true);
+            int c = feasible(1.0 - mid, mid * push, dir, wall, true);
             if (c == OK) {
                 lo = mid;
             } else {
@@ -589,7 +598,7 @@ final class AxisFilter {
                 hiCode = c;
             }
         }
-        simulateTick(1.0 - lo, lo * jerk);
+        simulateTick(1.0 - lo, lo * push);
         return flagOf(hiCode);
     }
 
@@ -625,21 +634,7 @@ final class AxisFilter {
             simulateTick(1.0, 0.0);
             return JerkLimiter.NOT_VIABLE;
         }
-        double lo = 0.0;
-        double hi = 1.0;
-        int hiCode = full;
-        for (int i = 0; i < BISECTION_STEPS; i++) {
-            double mid = 0.5 * (lo + hi);
-            int c = feasible(1.0 - mid, mid * push, dir, wall, true);
-            if (c == OK) {
-                lo = mid;
-            } else {
-                hi = mid;
-                hiCode = c;
-            }
-        }
-        simulateTick(1.0 - lo, lo * push);
-        return flagOf(hiCode);
+        return bisect(push, dir, wall, full, BISECTION_STEPS);
     }
 
     /** The stopping profile for this tick (a hold once at rest); NOT_VIABLE when even it breaks a bound. */

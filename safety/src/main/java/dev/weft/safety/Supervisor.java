@@ -296,15 +296,7 @@ public final class Supervisor {
                     startStop(tick, timeNanos, fault != 0 ? fault : Cause.DISARM_REQUEST, command, false);
                 } else {
                     active = main;
-                    main.saveState(saved);
-                    lastFlags = main.apply(target, targetVelocity, targetAcceleration, command);
-                    if ((lastFlags & JerkLimiter.FAULT_FLAGS) != 0) {
-                        // the fault is seen at this tick, so this tick's command is the stop's first
-                        int flags = lastFlags;
-                        main.restoreState(saved);
-                        startStop(tick, timeNanos, Cause.LIMITER_FAULT, command, false);
-                        lastFlags |= flags;
-                    }
+                    applyOrStop(main, tick, timeNanos, target, targetVelocity, targetAcceleration, command, false);
                 }
                 break;
             case STOPPING:
@@ -368,14 +360,10 @@ public final class Supervisor {
             goalVelocity = rampVelocity;
             goalAcceleration = rampAcceleration;
         }
-        limiter.saveState(saved);
-        lastFlags = limiter.apply(goal, goalVelocity, goalAcceleration, command);
-        if ((lastFlags & JerkLimiter.FAULT_FLAGS) != 0) {
-            int flags = lastFlags;
-            limiter.restoreState(saved);
-            startStop(tick, timeNanos, Cause.LIMITER_FAULT, command, !catchingUp);
-            lastFlags |= flags;
-        } else if (armingTicks >= armingRampTicks && withinTolerance(limiter, target)) {
+        if (!applyOrStop(limiter, tick, timeNanos, goal, goalVelocity, goalAcceleration, command, !catchingUp)) {
+            return;
+        }
+        if (armingTicks >= armingRampTicks && withinTolerance(limiter, target)) {
             if (catchingUp || main.resetFrom(soft)) {
                 active = main;
                 transition(tick, timeNanos, SupervisorState.ARMED, Cause.ARMING_COMPLETE);
@@ -387,6 +375,26 @@ public final class Supervisor {
             limiter.restoreState(saved);
             startStop(tick, timeNanos, Cause.ARMING_TIMEOUT, command, !catchingUp);
         }
+    }
+
+    /**
+     * One tick of {@code limiter} along the plan. A fault flag seen at this tick puts back the state
+     * of the tick before and makes this tick's command the first of the stop.
+     *
+     * @return whether the tick went on without a fault
+     */
+    private boolean applyOrStop(JerkLimiter limiter, long tick, long timeNanos, double[] goal, double[] goalVelocity,
+            double[] goalAcceleration, double[] command, boolean fromArming) {
+        limiter.saveState(saved);
+        lastFlags = limiter.apply(goal, goalVelocity, goalAcceleration, command);
+        if ((lastFlags & JerkLimiter.FAULT_FLAGS) == 0) {
+            return true;
+        }
+        int flags = lastFlags;
+        limiter.restoreState(saved);
+        startStop(tick, timeNanos, Cause.LIMITER_FAULT, command, fromArming);
+        lastFlags |= flags;
+        return false;
     }
 
     private boolean withinTolerance(JerkLimiter limiter, double[] target) {
