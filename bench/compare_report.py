@@ -7,7 +7,7 @@ RESULTS_DIR holds
   jmh-jitter.json, jmh-tick.json, jmh-inference.json   JMH results (-rf json)
   jitter/jitter-<rate>-<load>-<spin>.txt               weft's wake-up latency histograms
   cyclictest-<rate>-<load>.txt                         cyclictest -q -h output
-  numpy-<motion>-<K>.txt                               numpy_tick.py output
+  numpy-<motion>-<K>.txt                               numpy_tick.py output (timed, or the check alone)
 Only the standard library is used, so it runs wherever python3 does.
 """
 
@@ -130,16 +130,30 @@ def main(argv):
         with open(path) as f:
             text = f.read()
         m = re.search(r"numpy-tick joints=(\d+) steps=(\d+) motion=(\w+) ticks=\d+ median_ns=(\d+)", text)
-        check = re.search(r"largest difference target (\S+), command (\S+), velocity (\S+)", text)
+        # "largest difference target X, velocity X, ..., command acceleration X; flags differ on N joint-ticks"
+        check = re.search(r"largest difference (.*); flags differ on (\d+) joint-ticks", text)
+        verdict = re.search(r"numpy-check joints=(\d+) steps=(\d+) motion=(\w+) ticks=(\d+) "
+                            r"largest_difference=(\S+) flag_mismatches=(\d+)", text)
+        if verdict:
+            equal = float(verdict.group(5)) == 0.0 and int(verdict.group(6)) == 0
+            rows.append(("NumPy tick against weft, D=%s K=%s %s, %s ticks (largest difference, flags differing)"
+                         % (verdict.group(1), verdict.group(2), verdict.group(3).lower(), verdict.group(4)),
+                         "", "%s, %s" % (verdict.group(5), verdict.group(6)), "", "bit for bit",
+                         "met" if equal else "missed"))
         if not m:
             continue
         key = (m.group(3), int(m.group(2)), int(m.group(1)))
         if key not in tick:
             continue
+        if check:
+            largest = max(float(v) for v in re.findall(r"[a-z ]+ (\S+?)(?:,|$)", check.group(1)))
+            agreement = "outputs differ by <= %g, flags on %s joint-ticks" % (largest, check.group(2))
+        else:
+            agreement = "agreement not reported"
         ours, theirs = tick[key], float(m.group(4))
         ratio = theirs / ours
-        rows.append(("control tick median, D=%d K=%d %s (NumPy/weft; outputs differ by <= %s)"
-                     % (key[2], key[1], key[0].lower(), max(check.groups(), key=float) if check else "?"),
+        rows.append(("control tick median, D=%d K=%d %s (NumPy/weft; %s)"
+                     % (key[2], key[1], key[0].lower(), agreement),
                      "%.0f ns" % ours, "NumPy %.0f ns" % theirs, "%.0f" % ratio, ">= %.0fx" % TARGET_NUMPY,
                      "met" if ratio >= TARGET_NUMPY else "missed"))
     for motion in sorted({k[0] for k in tick}):

@@ -17,10 +17,13 @@ import org.openjdk.jmh.annotations.State;
 import org.openjdk.jmh.annotations.Warmup;
 
 /**
- * A K × D chunk accepted into the temporal-ensembling blender, in steady state: each call is a
- * chunk from the observation of the current tick, one tick after the previous one, so it
- * overlaps K − 1 ticks of the plan already there and extends it by one (the case of a policy
- * queried every tick). The cost is O(K·D): validation, resampling and merging of every value.
+ * A K × D chunk accepted into the temporal-ensembling blender as the runtime configures it by
+ * default (oldest first, natural cubic spline, tapered with half a chunk; see
+ * {@link TickWorkload}), in steady state: each call is a chunk from the observation of the
+ * current tick, one tick after the previous one, so it overlaps K − 1 ticks of the plan already
+ * there and extends it by one (the case of a policy queried every tick). The cost is O(K·D):
+ * validation, the spline's tridiagonal solve, resampling with derivatives, the taper, and
+ * merging of every value.
  *
  * <p>Baseline beside it: {@link #copyOnly}, one pass over the same K·D values
  * ({@code System.arraycopy} into a buffer), the least any acceptance must do.
@@ -48,9 +51,9 @@ public class ChunkAcceptBenchmark {
 
     @Setup(Level.Trial)
     public void setUp() {
-        blender = TemporalEnsembleBlender.oldestFirst(joints, chunkLength, 1.0, Interpolation.LINEAR,
-                TickWorkload.WEIGHT_RATE);
-        chunk = TickWorkload.chunk(joints, chunkLength, 0, TickWorkload.AMPLITUDE);
+        blender = TemporalEnsembleBlender.oldestFirst(joints, chunkLength, 1.0, Interpolation.CUBIC_SPLINE,
+                TickWorkload.WEIGHT_RATE, TickWorkload.taperSteps(chunkLength));
+        chunk = TickWorkload.chunk(joints, chunkLength, 0, TickWorkload.Motion.OSCILLATING);
         copy = new double[chunk.length];
     }
 

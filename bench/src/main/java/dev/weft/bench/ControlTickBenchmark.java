@@ -13,15 +13,19 @@ import org.openjdk.jmh.annotations.Scope;
 import org.openjdk.jmh.annotations.Setup;
 import org.openjdk.jmh.annotations.State;
 import org.openjdk.jmh.annotations.Warmup;
+import org.openjdk.jmh.infra.BenchmarkParams;
 
 /**
- * The per-tick work of the control loop: blend read-out, jerk-limited limiter, emit to a
- * discarding port (see {@link TickWorkload}), for D joints and chunk length K. The read-out is
- * O(D) whatever K is, so {@link #tick} should cost the same for every K at a given D.
+ * The per-tick work of the control loop: the plan's state from the blender, the jerk-limited
+ * limiter following it, emit to a discarding port (see {@link TickWorkload}), for D joints and
+ * chunk length K. The read-out is O(D) whatever K is, so {@link #tick} should cost about the same
+ * for every K at a given D.
  *
- * <p>Baselines beside it: {@link #readOut} (the blender's part alone) and {@link #emitOnly} (the
- * frame and the port call alone). Run with {@code -prof gc}: {@code gc.alloc.rate.norm} must read
- * 0 B/op for all three.
+ * <p>Beside it: {@link #readOut} (the blender's part alone), {@link #emitOnly} (the frame and the
+ * port call alone), and {@link #setPoint}, the same tick with the plan's position handed to the
+ * limiter as a target at rest ({@code JerkLimiter.apply(target, command)}), for comparison with
+ * the law that follows the plan. Run with {@code -prof gc} in average-time mode:
+ * {@code gc.alloc.rate.norm} must read 0 B/op for all four.
  */
 @State(Scope.Thread)
 @BenchmarkMode(Mode.SampleTime)
@@ -39,7 +43,11 @@ public class ControlTickBenchmark {
     @Param({"16", "100", "400"})
     public int chunkLength;
 
-    /** The plan: OSCILLATING (the limiter's dearest path) or HOLDING (its cheapest). */
+    /**
+     * The plan: OSCILLATING (the limiter at its bounds, mostly on its minimum-time law) or HOLDING
+     * (its hold path, the cheapest). Also accepted with {@code -p motion=}: HOLDING_ANY_POSE and
+     * CATCHING_UP (see {@link TickWorkload.Motion}).
+     */
     @Param({"OSCILLATING", "HOLDING"})
     public TickWorkload.Motion motion;
 
@@ -47,18 +55,29 @@ public class ControlTickBenchmark {
     private long tick;
 
     @Setup(Level.Trial)
-    public void setUp() {
+    public void setUp(BenchmarkParams params) {
         workload = new TickWorkload(joints, chunkLength, 1_000_000L, motion);
-        // one window of ticks, so the limiter is on its periodic path before any measurement
+        boolean setPointLaw = params.getBenchmark().endsWith(".setPoint");
+        // one window of ticks under the law measured, so the limiter is past its start first
         for (int i = 0; i < TickWorkload.WINDOW; i++) {
-            workload.tick(tick++);
+            if (setPointLaw) {
+                workload.setPointTick(tick++);
+            } else {
+                workload.tick(tick++);
+            }
         }
     }
 
-    /** Read-out, limiter, frame and emit: the tick. */
+    /** Plan state, limiter following it, frame and emit: the tick. */
     @Benchmark
     public int tick() {
         return workload.tick(tick++);
+    }
+
+    /** For comparison: the same tick with the set-point law (the plan's position as a target at rest). */
+    @Benchmark
+    public int setPoint() {
+        return workload.setPointTick(tick++);
     }
 
     /** Baseline: the blender's read-out alone. */

@@ -67,6 +67,9 @@ final class AxisFilter {
     double v;
     double a;
 
+    /** A plan whose velocity and acceleration are within these (rounding level) counts as at rest for the hold. */
+    private final double restVelocity;
+    private final double restAcceleration;
     /** Feedback gains of the linear zone on the predicted position, velocity and acceleration error. */
     final double k1;
     final double k2;
@@ -153,6 +156,8 @@ final class AxisFilter {
         this.feasibilityGain = 1.0 - Math.exp(-dt / FEASIBILITY_RECOVERY);
         this.driftGain = 1.0 - Math.exp(-dt / DRIFT_TIME_CONSTANT);
         this.kb = k1 * dt * dt * dt / 6.0 + k2 * dt * dt / 2.0 + k3 * dt;
+        this.restVelocity = posSlack / dt;
+        this.restAcceleration = posSlack / (dt * dt);
     }
 
     /**
@@ -498,7 +503,7 @@ final class AxisFilter {
             jff = step / dt;
             feedAcceleration += step;
             planRate += rateGain * (fv - planRate);
-            feasibility += feasibilityGain * (1.0 - feasibility);
+            feasibility = recovered(feasibility);
             // how far the plan moved over the tick beyond what its own velocity and acceleration
             // account for (trapezoid rule with its end correction: exact to O(dt^4) on a smooth
             // plan): a plan that steps at every new chunk is followed at the rate it really moves
@@ -517,7 +522,7 @@ final class AxisFilter {
         }
         // whether the plan's jerk was within the bound lately: its own frame is fit for the
         // minimum-time law only then
-        followable += feasibilityGain * (1.0 - followable);
+        followable = recovered(followable);
         if (Math.abs(fa - feedAcceleration) > FOLLOW_DEFICIT * aStrict) {
             followable = 0.0;
         }
@@ -536,8 +541,11 @@ final class AxisFilter {
         previousPlanVelocity = fv;
         havePlan = true;
         boolean planAtRest = fv == 0.0 && fa == 0.0;
-        if (planAtRest && v == 0.0 && a == 0.0 && q == wall) {
-            // holding on a plan at rest: nothing moves, and a state at rest inside the range is viable
+        if (v == 0.0 && a == 0.0 && Math.abs(q - wall) <= posSlack && Math.abs(fv) <= restVelocity
+                && Math.abs(fa) <= restAcceleration) {
+            // holding on a plan at rest (to within the position's rounding slack: a blend of equal
+            // poses may come back an ulp off, with derivatives of 1e-13): nothing moves, and a state
+            // at rest inside the range is viable
             tracking = false;
             return flags;
         }
@@ -668,6 +676,15 @@ final class AxisFilter {
         v = nv;
         a = na;
         return flags;
+    }
+
+    /**
+     * One tick of recovery toward 1 over FEASIBILITY_RECOVERY, reaching 1 exactly once within 1e-9
+     * of it (the geometric approach alone would stay a few ulps short for ever).
+     */
+    private double recovered(double x) {
+        double y = x + feasibilityGain * (1.0 - x);
+        return y > 1.0 - 1e-9 ? 1.0 : y;
     }
 
     private void forgetPlan() {
