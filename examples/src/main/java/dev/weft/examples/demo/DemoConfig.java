@@ -25,11 +25,11 @@ public final class DemoConfig {
 
     /**
      * {@code arming.ramp_time}, s (weft's default). The soft start runs at a quarter of each bound
-     * while the expert's plan moves at {@link DipCell#EXPERT_SHARE} of them, so it falls behind
-     * and hands over only once the plan pauses; with 1 s weft is armed from about 2.4 s, before
-     * the fault episode's glitch at {@link BuildDemo#GLITCH_TIME}, and the armed part of a run is
-     * what the gates measure. With 5 s it was armed only from about 6.3 s, and the fault episode's
-     * 0.7 s armed before its stop were all catch-up (lift 0.15 rad RMS).
+     * while the expert's plan moves at {@link DipCell#EXPERT_SHARE} of them, so it falls behind;
+     * after the ramp the full limits close the gap, and weft is armed on the plan (within 0.01 rad)
+     * before the fault episode's glitch at {@link BuildDemo#GLITCH_TIME}; the armed part of a run is
+     * what the gates measure. (With the release before and a 5 s ramp it was armed only from about
+     * 6.3 s, and the fault episode's 0.7 s armed before its stop were all catch-up.)
      */
     public static final double RAMP_TIME = 1;
 
@@ -42,8 +42,8 @@ public final class DemoConfig {
     public static final String INTERPOLATION = "cubic_spline";
 
     /**
-     * {@code gates.rms_error_max}, rad, every joint: the clean episodes' dry runs reach 0.045 at
-     * most (lift, dip-04) and the fault episode's armed part 0.043 to 0.056; holding the pose would give
+     * {@code gates.rms_error_max}, rad, every joint: the clean episodes' dry runs reach 0.040 at
+     * most (dip-03) and the fault episode's armed part 0.064; holding the pose would give
      * 0.10 on slew. 0.08 leaves room for a slower machine whose measured latency models as two ticks.
      */
     public static final double RMS_ERROR_MAX = 0.08;
@@ -113,7 +113,7 @@ public final class DemoConfig {
                   observation: %s
                   action: %s
                 gates:
-                  rms_error_max: %s  # rad, every joint; the clean episodes reach 0.045 (holding the pose: 0.1)
+                  rms_error_max: %s  # rad, every joint; the clean episodes reach 0.040 (holding the pose: 0.1)
                   stops_max: 0  # dip-05-glitch is judged as meant to stop instead
                   starved_ticks_max: 0
                 """.formatted(num(DipCell.CONTROL_PERIOD), num(ChunkRegression.POLICY_STEP),
