@@ -52,13 +52,12 @@ import dev.weft.safety.JointLimits;
  *   when full jerk would break a bound or pass the target). Measured over 4000 ticks from the
  *   start at D = 14 ({@code TickExport 14 K 4000 OSCILLATING} prints the flags and the finite
  *   differences; {@code numpy_tick.py} on that export, equal to weft's output bit for bit, counts
- *   the laws), the same to 0.1 point at K = 16, 100 and 400: <b>100 % of joint-ticks carry a
- *   bound flag</b> ({@link JerkLimiter#JERK} 77 %, {@link JerkLimiter#VELOCITY} 99 %,
- *   {@link JerkLimiter#ACCELERATION} 95 % at K = 16 and 99.6 % at K = 100 and 400; no fault
- *   flag); the minimum-time law runs on 93 % of joint-ticks (full jerk 75 %, its bisection
- *   17.6–17.7 %), the linear zone on 7 % (its shield's 16-step bisection on 0.8–0.9 %); and the
- *   finite differences of the emitted commands come within 1 % of the jerk bound on 54 %, of the
- *   acceleration bound on 20 % and of the velocity bound on 6 % of joint-ticks (each bound is
+ *   the laws), at K = 16: <b>100 % of joint-ticks carry a bound flag</b> ({@link JerkLimiter#JERK}
+ *   80.5 %, {@link JerkLimiter#VELOCITY} 99.1 %, {@link JerkLimiter#ACCELERATION} 94.7 %; no fault
+ *   flag); the minimum-time law runs on 87 % of joint-ticks (full jerk 73 %, its bisection 14 %),
+ *   the linear zone on 13 % (its shield's 16-step bisection on 1.1 %); and the finite differences
+ *   of the emitted commands come within 1 % of the jerk bound on 56 %, of the acceleration bound
+ *   on 17 % and of the velocity bound on 3 % of joint-ticks (each bound is
  *   reached exactly, none exceeded). The previous amplitude, 0.02 rad, no longer makes the
  *   limiter work: with it the new law stays in its linear zone, no joint-tick has the jerk flag
  *   and the commands' largest jerk is 62 rad/s³ (same measure, K = 16, with {@link #AMPLITUDE}

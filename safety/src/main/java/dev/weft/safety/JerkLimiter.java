@@ -30,7 +30,7 @@ package dev.weft.safety;
  * acceleration is beyond 0.9 of its bound, so an infeasible plan is averaged rather than chased;
  * and the rate at which the plan moves beyond its own derivatives (a plan re-planned at every
  * chunk steps) is estimated from its positions and fed forward too. Far from the plan, where the
- * linear law would ask for more than three times the jerk bound, and for every set point ({@link
+ * linear law would ask for more than six times the jerk bound, and for every set point ({@link
  * #apply(double[], double[])}), the law is minimum-time, as the online trajectory filters of their
  * Chapter 4 (after Zanasi, Guarino Lo Bianco and Tonielli, Automatica 36, 2000): the largest blend
  * {@code (1 - lambda) * stop(t) + lambda * (+-J)} whose successor can still come to rest at or
