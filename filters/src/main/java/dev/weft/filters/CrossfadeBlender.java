@@ -28,13 +28,10 @@ package dev.weft.filters;
  *
  * <p>Threading and allocation: see {@link ChunkBlender}; all arrays are allocated by the factory.
  */
-public final class CrossfadeBlender extends AbstractChunkBlender {
+public final class CrossfadeBlender extends NewestPlanBlender {
 
     private final int fadeSteps;
     private final long fadeTicks;
-    private final double[] positions;
-    private final double[] velocities;
-    private final double[] accelerations;
     private long seamTick;
 
     private CrossfadeBlender(int dims, int maxSteps, double stepRatio, Interpolation interpolation, int fadeSteps) {
@@ -44,9 +41,6 @@ public final class CrossfadeBlender extends AbstractChunkBlender {
         }
         this.fadeSteps = fadeSteps;
         this.fadeTicks = fadeSteps == 0 ? 0 : (long) Math.ceil(fadeSteps * stepRatio - TICK_EPSILON);
-        this.positions = new double[capacity * dims];
-        this.velocities = new double[capacity * dims];
-        this.accelerations = new double[capacity * dims];
     }
 
     /**
@@ -72,11 +66,6 @@ public final class CrossfadeBlender extends AbstractChunkBlender {
     /** Fade length in control ticks, {@code ceil(fadeSteps·r)}. */
     public long fadeTicks() {
         return fadeTicks;
-    }
-
-    @Override
-    boolean dropsOlderOrigins() {
-        return true;
     }
 
     @Override
@@ -107,27 +96,7 @@ public final class CrossfadeBlender extends AbstractChunkBlender {
                         + alpha * (acceleration[d] - oldAcceleration);
             }
         } else {
-            System.arraycopy(position, 0, positions, base, dims);
-            System.arraycopy(velocity, 0, velocities, base, dims);
-            System.arraycopy(acceleration, 0, accelerations, base, dims);
+            store(base, position, velocity, acceleration);
         }
-    }
-
-    @Override
-    long planEndAfter(long chunkEnd) {
-        return chunkEnd;
-    }
-
-    @Override
-    void readPosition(int slot, double[] out) {
-        System.arraycopy(positions, slot * dims, out, 0, dims);
-    }
-
-    @Override
-    void readState(int slot, double[] position, double[] velocity, double[] acceleration) {
-        int base = slot * dims;
-        System.arraycopy(positions, base, position, 0, dims);
-        System.arraycopy(velocities, base, velocity, 0, dims);
-        System.arraycopy(accelerations, base, acceleration, 0, dims);
     }
 }

@@ -18,12 +18,9 @@ package dev.weft.filters;
  *
  * <p>Threading and allocation: see {@link ChunkBlender}; all arrays are allocated by the factory.
  */
-public final class LatestChunkBlender extends AbstractChunkBlender {
+public final class LatestChunkBlender extends NewestPlanBlender {
 
     private final int executedSteps;
-    private final double[] positions;
-    private final double[] velocities;
-    private final double[] accelerations;
 
     private LatestChunkBlender(String kind, int dims, int maxSteps, double stepRatio, Interpolation interpolation,
             int executedSteps) {
@@ -33,9 +30,6 @@ public final class LatestChunkBlender extends AbstractChunkBlender {
                     + executedSteps);
         }
         this.executedSteps = executedSteps;
-        this.positions = new double[capacity * dims];
-        this.velocities = new double[capacity * dims];
-        this.accelerations = new double[capacity * dims];
     }
 
     /**
@@ -76,33 +70,7 @@ public final class LatestChunkBlender extends AbstractChunkBlender {
     }
 
     @Override
-    boolean dropsOlderOrigins() {
-        return true;
-    }
-
-    @Override
     void mergeTick(long tick, int slot, double[] position, double[] velocity, double[] acceleration, boolean hadPlan) {
-        int base = slot * dims;
-        System.arraycopy(position, 0, positions, base, dims);
-        System.arraycopy(velocity, 0, velocities, base, dims);
-        System.arraycopy(acceleration, 0, accelerations, base, dims);
-    }
-
-    @Override
-    long planEndAfter(long chunkEnd) {
-        return chunkEnd;
-    }
-
-    @Override
-    void readPosition(int slot, double[] out) {
-        System.arraycopy(positions, slot * dims, out, 0, dims);
-    }
-
-    @Override
-    void readState(int slot, double[] position, double[] velocity, double[] acceleration) {
-        int base = slot * dims;
-        System.arraycopy(positions, base, position, 0, dims);
-        System.arraycopy(velocities, base, velocity, 0, dims);
-        System.arraycopy(accelerations, base, acceleration, 0, dims);
+        store(slot * dims, position, velocity, acceleration);
     }
 }

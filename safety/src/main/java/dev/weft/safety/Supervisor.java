@@ -19,12 +19,13 @@ package dev.weft.safety;
  * <ul>
  *   <li>DISARMED and FAULTED send hold commands only (the limiter's stop, which is a hold at rest).</li>
  *   <li>ARMING starts at the last command (the held pose, at rest), so the emitted command
- *   sequence stays within its bounds across the switch, and follows the plan under limits scaled down by the
- *   arming factors; it is refused when the first planned action is farther from the measured pose
- *   than the configured offset. Once every joint is within the arming tolerance of the target the
- *   state carries over, unchanged, to the full-limit limiter: ARMED.</li>
- *   <li>A watchdog code other than 0, or a non-finite target, seen in {@link #step} at tick n makes
- *   the command of tick n the first command of the controlled stop.</li>
+ *   sequence stays within its bounds across the switch, and follows its ramped target under limits
+ *   scaled down by the arming factors, then (after the ramp) the plan under the full limits; it is
+ *   refused when the first planned action is farther from the measured pose than the configured
+ *   offset. Once the ramp is over and every joint is within the arming tolerance of the plan: ARMED.</li>
+ *   <li>A watchdog code other than 0, a non-finite target, a limiter fault or the arming timeout
+ *   seen in {@link #step} at tick n makes the command of tick n the first command of the
+ *   controlled stop.</li>
  *   <li>STOPPING brings every joint to standstill along the time-optimal stop under the full
  *   acceleration and jerk bounds. With {@link StopCategory#CATEGORY_1},
  *   {@link #powerRemovalRequested()} turns true at standstill.</li>
@@ -515,7 +516,7 @@ public final class Supervisor {
             return this;
         }
 
-        /** Distance to the target at which the soft start hands over to full limits (finite, &gt; 0); default 1e-3. */
+        /** Distance to the plan at which the soft start is ARMED (finite, &gt; 0); default 1e-2. */
         public Builder armingTolerance(double tolerance) {
             if (!Double.isFinite(tolerance) || !(tolerance > 0.0)) {
                 throw new IllegalArgumentException("supervisor: arming tolerance must be finite and > 0, was " + tolerance);
@@ -534,11 +535,11 @@ public final class Supervisor {
         }
 
         /**
-         * Ticks over which the soft start blends its target linearly from the held pose to the
-         * plan (&gt;= 0). With a ramp, the hand-over to full limits comes at the end of the ramp,
-         * once every joint is within the arming offset of the plan, so a moving plan can be
-         * armed onto; with 0 (the default) the soft start chases the plan directly and hands
-         * over within {@link #armingTolerance}.
+         * Ticks over which the soft start blends its target from the held pose to the plan along a
+         * quintic smooth step (&gt;= 0). With a ramp, the full-limit limiter takes over at the end of
+         * the ramp and closes what gap is left, so a moving plan can be armed onto; with 0 (the
+         * default) the soft start chases the plan directly. Either way the state is ARMED once
+         * every joint is within {@link #armingTolerance} of the plan.
          */
         public Builder armingRampTicks(long ticks) {
             if (ticks < 0) {
