@@ -14,7 +14,8 @@ of its runTick, and the frame of step 8):
      its square);
   3. the jerk-limited limiter following the plan (dev.weft.safety.AxisFilter.follow): the plan's
      derivatives clamped to the bounds, the acceleration fed forward at a rate within the jerk
-     bound, the share fed forward falling on a plan beyond the velocity or acceleration bound,
+     bound, the shares fed forward falling on a plan beyond the velocity, acceleration or jerk
+     bound (the velocity's share on its velocity and acceleration load only),
      the estimate of how fast the plan moves beyond its own derivatives, the "followable" memory
      of the plan's jerk; then the hold of a plan at rest, the linear zone (state feedback with
      poles 4, 12, 40 rad/s placed by Ackermann's formula, inside a shield that bisects the jerk
@@ -75,6 +76,8 @@ TRACK_BISECTION_STEPS = 16
 POLES = (4.0, 12.0, 40.0)
 RATE_TIME_CONSTANT = 0.1
 FEASIBILITY_RECOVERY = 0.1
+LOAD_TIME_CONSTANT = 0.2
+LOAD_WEIGHT = 1.6
 DRIFT_TIME_CONSTANT = 0.05
 ENTRY_SHARE = 1.0
 EXIT_SHARE = 6.0
@@ -345,6 +348,7 @@ class JerkLimit:
         self.rate_gain = 1.0 - math.exp(-dt / RATE_TIME_CONSTANT)
         self.feasibility_gain = 1.0 - math.exp(-dt / FEASIBILITY_RECOVERY)
         self.drift_gain = 1.0 - math.exp(-dt / DRIFT_TIME_CONSTANT)
+        self.load_gain = 1.0 - math.exp(-dt / LOAD_TIME_CONSTANT)
         self.kb = self.k1 * dt * dt * dt / 6.0 + self.k2 * dt * dt / 2.0 + self.k3 * dt
         self.pos_slack = pos_slack
         self.rest_velocity = pos_slack / dt
@@ -359,6 +363,9 @@ class JerkLimit:
         self.plan_rate = np.zeros(n)
         self.tracking = np.zeros(n, dtype=bool)
         self.feasibility = np.ones(n)
+        self.velocity_share = np.ones(n)
+        self.acceleration_load = np.zeros(n)
+        self.previous_given_acceleration = np.zeros(n)
         self.feed_acceleration = np.zeros(n)
         self.previous_plan_position = np.zeros(n)
         self.previous_plan_velocity = np.zeros(n)
@@ -380,6 +387,7 @@ class JerkLimit:
         self.plan_rate = np.where(mask, 0.0, self.plan_rate)
         self.previous_plan_acceleration = np.where(mask, 0.0, self.previous_plan_acceleration)
         self.feasibility = np.where(mask, 1.0, self.feasibility)
+        self.velocity_share = np.where(mask, 1.0, self.velocity_share)
         self.followable = np.where(mask, 1.0, self.followable)
         self.drift = np.where(mask, 0.0, self.drift)
 
@@ -550,6 +558,13 @@ class JerkLimit:
         self.plan_rate = np.where(had, self.plan_rate + self.rate_gain * (fv - self.plan_rate),
                                   np.where(fresh, fv, self.plan_rate))
         self.feasibility = np.where(had, self.recovered(self.feasibility), np.where(fresh, 1.0, self.feasibility))
+        self.velocity_share = np.where(had, self.recovered(self.velocity_share),
+                                       np.where(fresh, 1.0, self.velocity_share))
+        with np.errstate(all="ignore"):
+            given_load = np.abs(pa) / self.a_strict
+        self.acceleration_load = np.where(had, self.acceleration_load + self.load_gain * (given_load - self.acceleration_load),
+                                          np.where(fresh, given_load, self.acceleration_load))
+        self.previous_given_acceleration = np.where(fresh, pa, self.previous_given_acceleration)
         moved = wall - self.previous_plan_position
         explained = dt * (0.5 * (fv + self.previous_plan_velocity)
                           - dt * (fa - self.previous_plan_acceleration) / 12.0)
@@ -559,7 +574,10 @@ class JerkLimit:
         self.drift = np.where(had, self.drift + self.drift_gain * (mismatch - self.drift),
                               np.where(fresh, 0.0, self.drift))
         with np.errstate(all="ignore"):
-            ratio = np.maximum(np.abs(pv) / self.v_strict, np.abs(pa) / self.a_strict)
+            jerk_ratio = np.abs(pa - self.previous_given_acceleration) / (dt * self.j_use)
+            ratio = np.maximum(np.maximum(np.abs(pv) / self.v_strict, np.abs(pa) / self.a_strict), jerk_ratio)
+            velocity_ratio = np.maximum(np.abs(pv) / self.v_strict, LOAD_WEIGHT * self.acceleration_load)
+        self.previous_given_acceleration = np.where(finite, pa, self.previous_given_acceleration)
         followable = self.recovered(self.followable)
         followable = np.where(np.abs(fa - self.feed_acceleration) > FOLLOW_DEFICIT * self.a_strict, 0.0, followable)
         self.followable = np.where(finite, followable, self.followable)
@@ -567,6 +585,10 @@ class JerkLimit:
         share = share * share
         lower = finite & (ratio > FEED_FORWARD_FULL) & (share < self.feasibility)
         self.feasibility = np.where(lower, share, self.feasibility)
+        share = FEED_FORWARD_FULL / velocity_ratio
+        share = share * share
+        lower = finite & (velocity_ratio > FEED_FORWARD_FULL) & (share < self.velocity_share)
+        self.velocity_share = np.where(lower, share, self.velocity_share)
         self.previous_plan_acceleration = np.where(finite, fa, self.previous_plan_acceleration)
         self.previous_plan_position = np.where(finite, wall, self.previous_plan_position)
         self.previous_plan_velocity = np.where(finite, fv, self.previous_plan_velocity)
@@ -580,8 +602,9 @@ class JerkLimit:
         # the linear zone: state feedback on the error predicted at the end of the tick
         q0 = self.q + dt * (self.v + 0.5 * dt * self.a)
         v0 = self.v + dt * self.a
-        feed_forward = (1.0 - self.kb) * jff + self.k2 * (fv + self.drift) + self.k3 * self.feed_acceleration
-        jerk = self.feasibility * feed_forward + self.k1 * (wall - q0) - self.k2 * v0 - self.k3 * self.a
+        feed_forward = (self.feasibility * ((1.0 - self.kb) * jff + self.k3 * self.feed_acceleration)
+                        + self.velocity_share * self.k2 * (fv + self.drift))
+        jerk = feed_forward + self.k1 * (wall - q0) - self.k2 * v0 - self.k3 * self.a
         zone = np.where(self.tracking, EXIT_SHARE * self.j_use, ENTRY_SHARE * self.j_use)
         linear = finite & ~hold & ~plan_at_rest & (jerk <= zone) & (jerk >= -zone)
         clipped = linear & ((jerk > self.j_use) | (jerk < -self.j_use))
