@@ -77,6 +77,8 @@ POLES = (4.0, 12.0, 40.0)
 RATE_TIME_CONSTANT = 0.1
 FEASIBILITY_RECOVERY = 0.1
 LOAD_TIME_CONSTANT = 0.2
+SHARE_HOLD = 0.03
+HOLD_BAND = 1.1
 LOAD_WEIGHT = 1.6
 DRIFT_TIME_CONSTANT = 0.05
 ENTRY_SHARE = 1.0
@@ -349,6 +351,7 @@ class JerkLimit:
         self.feasibility_gain = 1.0 - math.exp(-dt / FEASIBILITY_RECOVERY)
         self.drift_gain = 1.0 - math.exp(-dt / DRIFT_TIME_CONSTANT)
         self.load_gain = 1.0 - math.exp(-dt / LOAD_TIME_CONSTANT)
+        self.hold_ticks = int(round(SHARE_HOLD / dt))
         self.kb = self.k1 * dt * dt * dt / 6.0 + self.k2 * dt * dt / 2.0 + self.k3 * dt
         self.pos_slack = pos_slack
         self.rest_velocity = pos_slack / dt
@@ -364,6 +367,8 @@ class JerkLimit:
         self.tracking = np.zeros(n, dtype=bool)
         self.feasibility = np.ones(n)
         self.velocity_share = np.ones(n)
+        self.feasibility_held = np.zeros(n, dtype=np.int64)
+        self.velocity_share_held = np.zeros(n, dtype=np.int64)
         self.acceleration_load = np.zeros(n)
         self.previous_given_acceleration = np.zeros(n)
         self.feed_acceleration = np.zeros(n)
@@ -557,9 +562,14 @@ class JerkLimit:
                                           np.where(fresh, fa, self.feed_acceleration))
         self.plan_rate = np.where(had, self.plan_rate + self.rate_gain * (fv - self.plan_rate),
                                   np.where(fresh, fv, self.plan_rate))
-        self.feasibility = np.where(had, self.recovered(self.feasibility), np.where(fresh, 1.0, self.feasibility))
-        self.velocity_share = np.where(had, self.recovered(self.velocity_share),
+        # each share recovers only once it has been held for SHARE_HOLD since the plan last asked for it
+        due = had & (self.feasibility_held >= self.hold_ticks)
+        self.feasibility = np.where(due, self.recovered(self.feasibility), np.where(fresh, 1.0, self.feasibility))
+        self.feasibility_held = np.where(had & ~due, self.feasibility_held + 1, self.feasibility_held)
+        due = had & (self.velocity_share_held >= self.hold_ticks)
+        self.velocity_share = np.where(due, self.recovered(self.velocity_share),
                                        np.where(fresh, 1.0, self.velocity_share))
+        self.velocity_share_held = np.where(had & ~due, self.velocity_share_held + 1, self.velocity_share_held)
         with np.errstate(all="ignore"):
             given_load = np.abs(pa) / self.a_strict
         self.acceleration_load = np.where(had, self.acceleration_load + self.load_gain * (given_load - self.acceleration_load),
@@ -581,14 +591,20 @@ class JerkLimit:
         followable = self.recovered(self.followable)
         followable = np.where(np.abs(fa - self.feed_acceleration) > FOLLOW_DEFICIT * self.a_strict, 0.0, followable)
         self.followable = np.where(finite, followable, self.followable)
-        share = FEED_FORWARD_FULL / ratio
-        share = share * share
-        lower = finite & (ratio > FEED_FORWARD_FULL) & (share < self.feasibility)
-        self.feasibility = np.where(lower, share, self.feasibility)
-        share = FEED_FORWARD_FULL / velocity_ratio
-        share = share * share
-        lower = finite & (velocity_ratio > FEED_FORWARD_FULL) & (share < self.velocity_share)
-        self.velocity_share = np.where(lower, share, self.velocity_share)
+        # the share a ratio allows: (FULL / ratio)^2 beyond FULL, otherwise 2 (no limit); one within
+        # HOLD_BAND of the current share renews its hold
+        with np.errstate(all="ignore"):
+            share = FEED_FORWARD_FULL / ratio
+            share = np.where(ratio > FEED_FORWARD_FULL, share * share, 2.0)
+        asks = finite & (share <= HOLD_BAND * self.feasibility)
+        self.feasibility_held = np.where(asks, 0, self.feasibility_held)
+        self.feasibility = np.where(asks & (share < self.feasibility), share, self.feasibility)
+        with np.errstate(all="ignore"):
+            share = FEED_FORWARD_FULL / velocity_ratio
+            share = np.where(velocity_ratio > FEED_FORWARD_FULL, share * share, 2.0)
+        asks = finite & (share <= HOLD_BAND * self.velocity_share)
+        self.velocity_share_held = np.where(asks, 0, self.velocity_share_held)
+        self.velocity_share = np.where(asks & (share < self.velocity_share), share, self.velocity_share)
         self.previous_plan_acceleration = np.where(finite, fa, self.previous_plan_acceleration)
         self.previous_plan_position = np.where(finite, wall, self.previous_plan_position)
         self.previous_plan_velocity = np.where(finite, fv, self.previous_plan_velocity)

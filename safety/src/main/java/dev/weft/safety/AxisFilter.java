@@ -32,6 +32,19 @@ final class AxisFilter {
     /** Time constant with which the feed-forward share recovers once the plan is back inside the bounds, s. */
     static final double FEASIBILITY_RECOVERY = 0.1;
     /**
+     * Time a feed-forward share is held after the plan last asked for it (within HOLD_BAND), before
+     * it recovers, s: longer than the interval between the jerk peaks of a wiggle the share must
+     * not follow (recovering between them, the share of a 0.1 mrad wiggle at 18.5 Hz modulated
+     * at its 0.5 Hz beat with the tick and came out 1.57 times larger).
+     */
+    static final double SHARE_HOLD = 0.03;
+    /**
+     * A tick whose ratio allows a share up to this multiple of the current one renews the hold: the
+     * sampled peaks of a steady wiggle differ by a few per cent from tick to tick (with 1, only
+     * peaks that lowered the share renewed it, and 0.1 mrad at 18.5 Hz came out 8 times larger).
+     */
+    static final double HOLD_BAND = 1.1;
+    /**
      * Time constant of the plan's acceleration load (its |acceleration| over the bound through a
      * first-order lag), s: the velocity fed forward falls only when that load stays high, not at a
      * single rough knot of the plan.
@@ -114,6 +127,10 @@ final class AxisFilter {
     private final double loadGain;
     /** The plan's acceleration at the previous tick as given (not clamped), for its jerk. */
     private double previousGivenAcceleration;
+    /** Ticks each share has been held since the plan last asked for it (see SHARE_HOLD). */
+    private int feasibilityHeld;
+    private int velocityShareHeld;
+    private final int holdTicks;
     /** Recovery of {@link #feasibility} toward 1 per tick (time constant FEASIBILITY_RECOVERY). */
     private final double feasibilityGain;
     /** K B: the feedback gains applied to the jerk's own effect over one tick. */
@@ -183,6 +200,7 @@ final class AxisFilter {
         this.feasibilityGain = 1.0 - Math.exp(-dt / FEASIBILITY_RECOVERY);
         this.driftGain = 1.0 - Math.exp(-dt / DRIFT_TIME_CONSTANT);
         this.loadGain = 1.0 - Math.exp(-dt / LOAD_TIME_CONSTANT);
+        this.holdTicks = (int) Math.round(SHARE_HOLD / dt);
         this.kb = k1 * dt * dt * dt / 6.0 + k2 * dt * dt / 2.0 + k3 * dt;
         this.restVelocity = posSlack / dt;
         this.restAcceleration = posSlack / (dt * dt);
@@ -277,6 +295,8 @@ final class AxisFilter {
         previousPlanAcceleration = o.previousPlanAcceleration;
         feasibility = o.feasibility;
         velocityShare = o.velocityShare;
+        feasibilityHeld = o.feasibilityHeld;
+        velocityShareHeld = o.velocityShareHeld;
         accelerationLoad = o.accelerationLoad;
         previousGivenAcceleration = o.previousGivenAcceleration;
         followable = o.followable;
@@ -534,8 +554,16 @@ final class AxisFilter {
             jff = step / dt;
             feedAcceleration += step;
             planRate += rateGain * (fv - planRate);
-            feasibility = recovered(feasibility);
-            velocityShare = recovered(velocityShare);
+            if (feasibilityHeld >= holdTicks) {
+                feasibility = recovered(feasibility);
+            } else {
+                feasibilityHeld++;
+            }
+            if (velocityShareHeld >= holdTicks) {
+                velocityShare = recovered(velocityShare);
+            } else {
+                velocityShareHeld++;
+            }
             accelerationLoad += loadGain * (Math.abs(pa) / aStrict - accelerationLoad);
             // how far the plan moved over the tick beyond what its own velocity and acceleration
             // account for (trapezoid rule with its end correction: exact to O(dt^4) on a smooth
@@ -563,18 +591,31 @@ final class AxisFilter {
             followable = 0.0;
         }
         // a plan beyond a bound is fed forward only in part: each share falls to (FULL / ratio)^2
-        // at once and recovers over FEASIBILITY_RECOVERY. The acceleration and jerk fed forward
-        // fall with the plan's velocity, acceleration and jerk (its jerk from the change of its
-        // acceleration over the tick): fed forward through the rate limit above, a plan whose
-        // jerk is beyond the bound at every tick (a fast wiggle) would be rectified into a slow
-        // drift. The velocity fed forward falls with the plan's velocity and its acceleration
-        // load only, so a plan that is rough at its knots but moves at a feasible pace is still
-        // followed without lag.
+        // at once, is held while the plan keeps asking for about as little (SHARE_HOLD,
+        // HOLD_BAND), then recovers over FEASIBILITY_RECOVERY. The acceleration and jerk fed
+        // forward fall with the plan's velocity, acceleration and jerk (its jerk from the change
+        // of its acceleration over the tick): fed forward through the rate limit above, a plan
+        // whose jerk is beyond the bound at every tick (a fast wiggle) would be rectified into a
+        // slow drift. The velocity fed forward falls with the plan's velocity and its
+        // acceleration load only, so a plan that is rough at its knots but moves at a feasible
+        // pace is still followed without lag.
         double jerkRatio = Math.abs(pa - previousGivenAcceleration) / (dt * jUse);
         previousGivenAcceleration = pa;
         double ratio = Math.max(Math.max(Math.abs(pv) / vStrict, Math.abs(pa) / aStrict), jerkRatio);
-        feasibility = capped(feasibility, ratio);
-        velocityShare = capped(velocityShare, Math.max(Math.abs(pv) / vStrict, LOAD_WEIGHT * accelerationLoad));
+        double fs = limitShare(ratio);
+        if (fs <= HOLD_BAND * feasibility) {
+            feasibilityHeld = 0;
+            if (fs < feasibility) {
+                feasibility = fs;
+            }
+        }
+        double vs = limitShare(Math.max(Math.abs(pv) / vStrict, LOAD_WEIGHT * accelerationLoad));
+        if (vs <= HOLD_BAND * velocityShare) {
+            velocityShareHeld = 0;
+            if (vs < velocityShare) {
+                velocityShare = vs;
+            }
+        }
         previousPlanAcceleration = fa;
         previousPlanPosition = wall;
         previousPlanVelocity = fv;
@@ -726,17 +767,15 @@ final class AxisFilter {
         return y > 1.0 - 1e-9 ? 1.0 : y;
     }
 
-    /** The share {@code share}, lowered to (FULL / ratio)^2 when the ratio to the bound is beyond FULL. */
-    private static double capped(double share, double ratio) {
+    /** The share a ratio to the bound allows: (FULL / ratio)^2 beyond FULL, otherwise 2 (no limit). */
+    private static double limitShare(double ratio) {
         if (ratio > FEED_FORWARD_FULL) {
             double s = FEED_FORWARD_FULL / ratio;
-            s *= s;
-            if (s < share) {
-                return s;
-            }
+            return s * s;
         }
-        return share;
+        return 2.0;
     }
+
 
     private void forgetPlan() {
         havePlan = false;

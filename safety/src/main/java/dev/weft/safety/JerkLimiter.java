@@ -28,8 +28,10 @@ package dev.weft.safety;
  * plan inside the bounds the command is the plan. The acceleration fed forward follows the plan's
  * at a rate inside the jerk bound; the share of acceleration and jerk fed forward falls while the
  * plan's velocity, acceleration or jerk is beyond 0.9 of its bound, and the share of velocity fed
- * forward while its velocity or its acceleration load (lagged over 0.2 s) is, so an infeasible plan
- * is averaged rather than chased and a fast wiggle is not rectified into a drift;
+ * forward while its velocity or its acceleration load (lagged over 0.2 s) is; each share is held
+ * for 30 ms while the plan keeps asking for it before it recovers. So an infeasible plan is
+ * averaged rather than chased, and a fast wiggle is neither rectified into a drift nor modulated
+ * at its beat with the tick;
  * and the rate at which the plan moves beyond its own derivatives (a plan re-planned at every
  * chunk steps) is estimated from its positions and fed forward too. Far from the plan, where the
  * linear law would ask for more than six times the jerk bound, and for every set point ({@link

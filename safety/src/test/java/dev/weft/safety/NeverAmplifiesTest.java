@@ -49,47 +49,58 @@ class NeverAmplifiesTest {
 
     /**
      * A dense sweep between the plot's frequencies: 0.1 to 50 mrad, 1 to 60 Hz in steps of about
-     * 6 % (rounded to whole half-hertz so the window holds whole periods), at 500 Hz. Not met yet:
-     * the worst gain measured is 1.57, at 0.1 mrad and 18.5 Hz (the sampled wiggle beats with the
-     * tick at 0.5 Hz and the feed-forward share, falling at each jerk peak and recovering between
-     * them, modulates at that beat); the bounds hold what was measured, so that a regression
-     * fails. The release before reached a gain of 65 on this sweep (0.1 mrad at 55.5 Hz: its
-     * acceleration fed forward through the rate limit, the plan's jerk never counted against the
-     * share, rectified the wiggle into a 0.5 Hz drift of 6.5 mrad).
+     * 6 % (rounded to whole half-hertz, so the window holds whole periods), at 500 Hz and 1 kHz: no
+     * wiggle comes out larger. Not met yet: between the plot's frequencies the command carries up
+     * to 0.86 of the wiggle's amplitude at another frequency (0.1 mrad at 18.5 Hz, a 0.5 Hz beat
+     * of the sampled wiggle with the tick), while its peak-to-peak stays below the target's; that
+     * bound and the count of such cases hold what was measured, so that a regression fails.
+     * Before the feed-forward shares were held (SHARE_HOLD), 0.1 mrad at 18.5 Hz came out 1.57
+     * times larger; before the plan's jerk counted against the share, 0.1 mrad at 55.5 Hz came out
+     * 65 times larger (its acceleration, fed forward through the rate limit, rectified into a
+     * 6.5 mrad drift at the beat).
      */
     @Test
-    void aDenseSweepBetweenThePlotsFrequenciesStaysNearUnitGain() {
+    void aDenseSweepBetweenThePlotsFrequenciesIsNeverAmplified() {
         double[] amplitudes = {1e-4, 5e-4, 1e-3, 2e-3, 5e-3, 1e-2, 2e-2, 5e-2};
         double worstGain = 0;
         double worstOther = 0;
-        int aboveOne = 0;
+        int otherAbove = 0;
         int runs = 0;
-        for (double amplitude : amplitudes) {
-            double last = 0;
-            for (double f = 1.0; f <= 60.0; f *= 1.06) {
-                double hertz = Math.round(f * 2) / 2.0;
-                if (hertz == last) {
-                    continue;
-                }
-                last = hertz;
-                WiggleResponse r = WiggleResponse.measure(WiggleResponse.liftJoint(), 0.002, amplitude, hertz);
-                runs++;
-                worstGain = Math.max(worstGain, r.gain);
-                worstOther = Math.max(worstOther, r.otherFrequencies);
-                if (r.gain > 1 + 1e-5) {
-                    aboveOne++;
-                    System.out.printf("dense sweep: %.1f mrad at %.1f Hz: gain %.3f, other frequencies %.3f%n",
-                            amplitude * 1e3, hertz, r.gain, r.otherFrequencies);
+        for (double dt : new double[] {0.002, 0.001}) {
+            for (double amplitude : amplitudes) {
+                double last = 0;
+                for (double f = 1.0; f <= 60.0; f *= 1.06) {
+                    double hertz = Math.round(f * 2) / 2.0;
+                    if (hertz == last) {
+                        continue;
+                    }
+                    last = hertz;
+                    WiggleResponse r = WiggleResponse.measure(WiggleResponse.liftJoint(), dt, amplitude, hertz);
+                    runs++;
+                    worstGain = Math.max(worstGain, r.gain);
+                    worstOther = Math.max(worstOther, r.otherFrequencies);
+                    if (r.gain > 1 + 1e-5 || r.otherFrequencies > 0.05) {
+                        otherAbove += r.otherFrequencies > 0.05 ? 1 : 0;
+                        System.out.printf("dense sweep: %.1f mrad at %.1f Hz, dt %s: gain %.3f, other frequencies %.3f%n",
+                                amplitude * 1e3, hertz, dt, r.gain, r.otherFrequencies);
+                    }
                 }
             }
         }
-        System.out.printf("dense sweep: %d runs, worst gain %.3f, worst other-frequency content %.3f, %d above 1%n",
-                runs, worstGain, worstOther, aboveOne);
-        assertThat(runs).isEqualTo(392);
-        assertThat(worstGain).isLessThanOrEqualTo(1.6);
-        assertThat(worstOther).isLessThanOrEqualTo(1.5);
-        assertThat(aboveOne).isLessThanOrEqualTo(1);
+        System.out.printf("dense sweep: %d runs, worst gain %.6f, worst other-frequency content %.3f, %d runs above 5 %%%n",
+                runs, worstGain, worstOther, otherAbove);
+        assertThat(runs).isEqualTo(784);
+        // equal is allowed, as above: a feasible wiggle passes unchanged to within tracking error
+        assertThat(worstGain).isLessThanOrEqualTo(1 + 1e-5);
+        assertThat(worstOther).isLessThanOrEqualTo(0.9);
+        assertThat(otherAbove).isLessThanOrEqualTo(OTHER_ABOVE_MAX);
     }
+
+    /**
+     * Runs of the dense sweep whose other-frequency content is above 5 % of the wiggle: measured 9,
+     * all at 0.1 and 0.5 mrad between 11 and 30 Hz, with gains of 0.13 to 0.2 except at 18.5 Hz.
+     */
+    static final int OTHER_ABOVE_MAX = 9;
 
     @Test
     void aFeasibleWigglePassesUnchanged() {

@@ -25,9 +25,11 @@ import org.junit.jupiter.params.provider.MethodSource;
  * chunk enters or leaves the ensemble.
  *
  * <p>Measured with the limiter of this release (per episode, armed ticks): RMS of command minus
- * blended plan 7 to 35 mrad (slew 21 to 23, lift 27 to 35, twist 28 to 33, the other three 7 to 10),
- * and the jerk bound flagged on 2.9 to 3.2 % of armed joint-ticks. The release before reached 13 to
- * 39 mrad with the jerk bound on 35 to 37 %; the first release 30 to 55 mrad and 78 %. The jerk aim
+ * blended plan 9 to 39 mrad (slew 24 to 26, lift 30 to 39, twist 31 to 38, the other three 9 to
+ * 11), and the jerk bound flagged on 1.9 to 2.3 % of armed joint-ticks. The release before reached
+ * 13 to 39 mrad (its middle joints 2 to 6, slew 13 to 14) with the jerk bound on 35 to 37 %, by
+ * feeding forward an acceleration the plan's jerk could not give, which also grew a 0.1 mrad
+ * wiggle at 55.5 Hz 65-fold; the first release 30 to 55 mrad and 78 %. The jerk aim
  * of 10 % is met; the RMS aim of 5 mrad is not: the demo's blended plan asks for more jerk than the
  * joints have on about half the ticks (chunks that disagree by a few milliradians, through a cubic
  * spline at 20 ms knots), and a law that sees the plan one tick at a time either follows that
@@ -37,9 +39,9 @@ import org.junit.jupiter.params.provider.MethodSource;
 class DemoTrackingTest {
 
     static final Path CONFIG = DemoDryRunTest.CONFIG;
-    /** RMS(command - blended plan) over armed ticks, rad, every joint (measured up to 0.0351). */
-    static final double RMS_MAX = 0.036;
-    /** Share of armed joint-ticks with the jerk bound flagged: the aim, 10 % (measured up to 0.032). */
+    /** RMS(command - blended plan) over armed ticks, rad, every joint (measured up to 0.0393). */
+    static final double RMS_MAX = 0.040;
+    /** Share of armed joint-ticks with the jerk bound flagged: the aim, 10 % (measured up to 0.023). */
     static final double JERK_SHARE_MAX = 0.10;
 
     static WeftConfig config;
