@@ -776,7 +776,6 @@ final class AxisFilter {
         return 2.0;
     }
 
-
     private void forgetPlan() {
         havePlan = false;
         tracking = false;
