@@ -137,7 +137,10 @@ public final class EmbeddingExample {
         try (Weft weft = Weft.builder(limits, 0.002)
                 .policy(new LookAt(new double[] {0.6, 0.3}))
                 .port(driver)
-                .armingOffset(0.05)
+                // a chunk sweeps 0.01 rad a step for 20 steps while the head holds, so when arm() is
+                // called the plan can be up to 0.2 rad from the held pose (more than 0.05 whenever the
+                // inference thread was late by a few ticks); the soft start closes that gap
+                .armingOffset(0.25)
                 .listener((tick, time, from, to, cause, message) ->
                         System.out.printf(Locale.ROOT, "tick %d: %s -> %s (%s)%n", tick, from, to, message))
                 .build()) {
