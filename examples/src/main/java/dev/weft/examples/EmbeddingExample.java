@@ -167,12 +167,15 @@ public final class EmbeddingExample {
             while (weft.state() != dev.weft.safety.SupervisorState.DISARMED && weft.running()) {
                 Thread.sleep(5);
             }
+            // end the run before reading its counters: the loop keeps ticking (holding) until then, so a
+            // tick count read while it runs can be one ahead of the frames the driver has had
+            String state = weft.state().name().toLowerCase(Locale.ROOT);
+            weft.close();
             driving.set(false);
             driverThread.join();
             double[] pose = new double[2];
             driver.cycle(pose);
-            return new Outcome(weft.state().name().toLowerCase(Locale.ROOT), weft.status().ticks(), pose,
-                    driver.emitted());
+            return new Outcome(state, weft.status().ticks(), pose, driver.emitted());
         }
     }
 
