@@ -386,6 +386,20 @@ class JerkLimit:
         """One tick of recovery toward 1, reaching 1 exactly once within 1e-9 of it (AxisFilter.recovered)."""
         y = x + self.feasibility_gain * (1.0 - x)
         return np.where(y > 1.0 - 1e-9, 1.0, y)
+    def aged(self, share, held, had, fresh):
+        """AxisFilter.FeedShare.age: a share recovers once held for SHARE_HOLD; a fresh plan starts at 1."""
+        due = had & (held >= self.hold_ticks)
+        share = np.where(due, self.recovered(share), np.where(fresh, 1.0, share))
+        return share, np.where(had & ~due, held + 1, held)
+
+    def asked(self, share, held, ratio, finite):
+        """AxisFilter.FeedShare.ask: (FULL / ratio)^2 beyond FULL; one within HOLD_BAND of the share renews its hold."""
+        with np.errstate(all="ignore"):
+            limit = FEED_FORWARD_FULL / ratio
+            limit = np.where(ratio > FEED_FORWARD_FULL, limit * limit, 2.0)
+        asks = finite & (limit <= HOLD_BAND * share)
+        return np.where(asks & (limit < share), limit, share), np.where(asks, 0, held)
+
     def forget_plan(self, mask):
         self.have_plan &= ~mask
         self.tracking &= ~mask
@@ -562,14 +576,9 @@ class JerkLimit:
                                           np.where(fresh, fa, self.feed_acceleration))
         self.plan_rate = np.where(had, self.plan_rate + self.rate_gain * (fv - self.plan_rate),
                                   np.where(fresh, fv, self.plan_rate))
-        # each share recovers only once it has been held for SHARE_HOLD since the plan last asked for it
-        due = had & (self.feasibility_held >= self.hold_ticks)
-        self.feasibility = np.where(due, self.recovered(self.feasibility), np.where(fresh, 1.0, self.feasibility))
-        self.feasibility_held = np.where(had & ~due, self.feasibility_held + 1, self.feasibility_held)
-        due = had & (self.velocity_share_held >= self.hold_ticks)
-        self.velocity_share = np.where(due, self.recovered(self.velocity_share),
-                                       np.where(fresh, 1.0, self.velocity_share))
-        self.velocity_share_held = np.where(had & ~due, self.velocity_share_held + 1, self.velocity_share_held)
+        self.feasibility, self.feasibility_held = self.aged(self.feasibility, self.feasibility_held, had, fresh)
+        self.velocity_share, self.velocity_share_held = self.aged(self.velocity_share, self.velocity_share_held,
+                                                                  had, fresh)
         with np.errstate(all="ignore"):
             given_load = np.abs(pa) / self.a_strict
         self.acceleration_load = np.where(had, self.acceleration_load + self.load_gain * (given_load - self.acceleration_load),
@@ -591,20 +600,9 @@ class JerkLimit:
         followable = self.recovered(self.followable)
         followable = np.where(np.abs(fa - self.feed_acceleration) > FOLLOW_DEFICIT * self.a_strict, 0.0, followable)
         self.followable = np.where(finite, followable, self.followable)
-        # the share a ratio allows: (FULL / ratio)^2 beyond FULL, otherwise 2 (no limit); one within
-        # HOLD_BAND of the current share renews its hold
-        with np.errstate(all="ignore"):
-            share = FEED_FORWARD_FULL / ratio
-            share = np.where(ratio > FEED_FORWARD_FULL, share * share, 2.0)
-        asks = finite & (share <= HOLD_BAND * self.feasibility)
-        self.feasibility_held = np.where(asks, 0, self.feasibility_held)
-        self.feasibility = np.where(asks & (share < self.feasibility), share, self.feasibility)
-        with np.errstate(all="ignore"):
-            share = FEED_FORWARD_FULL / velocity_ratio
-            share = np.where(velocity_ratio > FEED_FORWARD_FULL, share * share, 2.0)
-        asks = finite & (share <= HOLD_BAND * self.velocity_share)
-        self.velocity_share_held = np.where(asks, 0, self.velocity_share_held)
-        self.velocity_share = np.where(asks & (share < self.velocity_share), share, self.velocity_share)
+        self.feasibility, self.feasibility_held = self.asked(self.feasibility, self.feasibility_held, ratio, finite)
+        self.velocity_share, self.velocity_share_held = self.asked(self.velocity_share, self.velocity_share_held,
+                                                                   velocity_ratio, finite)
         self.previous_plan_acceleration = np.where(finite, fa, self.previous_plan_acceleration)
         self.previous_plan_position = np.where(finite, wall, self.previous_plan_position)
         self.previous_plan_velocity = np.where(finite, fv, self.previous_plan_velocity)

@@ -119,19 +119,15 @@ final class AxisFilter {
      * Share of the plan's acceleration and jerk fed forward: 1 on a plan inside the bounds, less
      * while its velocity, acceleration or jerk is beyond them.
      */
-    private double feasibility = 1.0;
+    private final FeedShare feasibility;
     /** Share of the plan's velocity fed forward: less only while its velocity or its acceleration load is beyond the bounds. */
-    private double velocityShare = 1.0;
+    private final FeedShare velocityShare;
     /** The plan's |acceleration| over the bound through a first-order lag of LOAD_TIME_CONSTANT. */
     private double accelerationLoad;
     private final double loadGain;
     /** The plan's acceleration at the previous tick as given (not clamped), for its jerk. */
     private double previousGivenAcceleration;
-    /** Ticks each share has been held since the plan last asked for it (see SHARE_HOLD). */
-    private int feasibilityHeld;
-    private int velocityShareHeld;
-    private final int holdTicks;
-    /** Recovery of {@link #feasibility} toward 1 per tick (time constant FEASIBILITY_RECOVERY). */
+    /** Recovery of a share (and of {@link #followable}) toward 1 per tick (time constant FEASIBILITY_RECOVERY). */
     private final double feasibilityGain;
     /** K B: the feedback gains applied to the jerk's own effect over one tick. */
     private final double kb;
@@ -200,7 +196,9 @@ final class AxisFilter {
         this.feasibilityGain = 1.0 - Math.exp(-dt / FEASIBILITY_RECOVERY);
         this.driftGain = 1.0 - Math.exp(-dt / DRIFT_TIME_CONSTANT);
         this.loadGain = 1.0 - Math.exp(-dt / LOAD_TIME_CONSTANT);
-        this.holdTicks = (int) Math.round(SHARE_HOLD / dt);
+        int holdTicks = (int) Math.round(SHARE_HOLD / dt);
+        this.feasibility = new FeedShare(holdTicks, feasibilityGain);
+        this.velocityShare = new FeedShare(holdTicks, feasibilityGain);
         this.kb = k1 * dt * dt * dt / 6.0 + k2 * dt * dt / 2.0 + k3 * dt;
         this.restVelocity = posSlack / dt;
         this.restAcceleration = posSlack / (dt * dt);
@@ -293,10 +291,8 @@ final class AxisFilter {
     void copyTracking(AxisFilter o) {
         havePlan = o.havePlan;
         previousPlanAcceleration = o.previousPlanAcceleration;
-        feasibility = o.feasibility;
-        velocityShare = o.velocityShare;
-        feasibilityHeld = o.feasibilityHeld;
-        velocityShareHeld = o.velocityShareHeld;
+        feasibility.copy(o.feasibility);
+        velocityShare.copy(o.velocityShare);
         accelerationLoad = o.accelerationLoad;
         previousGivenAcceleration = o.previousGivenAcceleration;
         followable = o.followable;
@@ -554,16 +550,8 @@ final class AxisFilter {
             jff = step / dt;
             feedAcceleration += step;
             planRate += rateGain * (fv - planRate);
-            if (feasibilityHeld >= holdTicks) {
-                feasibility = recovered(feasibility);
-            } else {
-                feasibilityHeld++;
-            }
-            if (velocityShareHeld >= holdTicks) {
-                velocityShare = recovered(velocityShare);
-            } else {
-                velocityShareHeld++;
-            }
+            feasibility.age();
+            velocityShare.age();
             accelerationLoad += loadGain * (Math.abs(pa) / aStrict - accelerationLoad);
             // how far the plan moved over the tick beyond what its own velocity and acceleration
             // account for (trapezoid rule with its end correction: exact to O(dt^4) on a smooth
@@ -579,8 +567,8 @@ final class AxisFilter {
             planRate = fv;
             drift = 0.0;
             feedAcceleration = fa;
-            feasibility = 1.0;
-            velocityShare = 1.0;
+            feasibility.value = 1.0;
+            velocityShare.value = 1.0;
             accelerationLoad = Math.abs(pa) / aStrict;
             previousGivenAcceleration = pa;
         }
@@ -602,20 +590,8 @@ final class AxisFilter {
         double jerkRatio = Math.abs(pa - previousGivenAcceleration) / (dt * jUse);
         previousGivenAcceleration = pa;
         double ratio = Math.max(Math.max(Math.abs(pv) / vStrict, Math.abs(pa) / aStrict), jerkRatio);
-        double fs = limitShare(ratio);
-        if (fs <= HOLD_BAND * feasibility) {
-            feasibilityHeld = 0;
-            if (fs < feasibility) {
-                feasibility = fs;
-            }
-        }
-        double vs = limitShare(Math.max(Math.abs(pv) / vStrict, LOAD_WEIGHT * accelerationLoad));
-        if (vs <= HOLD_BAND * velocityShare) {
-            velocityShareHeld = 0;
-            if (vs < velocityShare) {
-                velocityShare = vs;
-            }
-        }
+        feasibility.ask(ratio);
+        velocityShare.ask(Math.max(Math.abs(pv) / vStrict, LOAD_WEIGHT * accelerationLoad));
         previousPlanAcceleration = fa;
         previousPlanPosition = wall;
         previousPlanVelocity = fv;
@@ -634,7 +610,8 @@ final class AxisFilter {
             // prediction q0, v0, a), with the plan's derivatives as feed-forward
             double q0 = q + dt * (v + 0.5 * dt * a);
             double v0 = v + dt * a;
-            double feedForward = feasibility * ((1.0 - kb) * jff + k3 * feedAcceleration) + velocityShare * k2 * (fv + drift);
+            double feedForward = feasibility.value * ((1.0 - kb) * jff + k3 * feedAcceleration)
+                    + velocityShare.value * k2 * (fv + drift);
             double jerk = feedForward + k1 * (wall - q0) - k2 * v0 - k3 * a;
             double zone = tracking ? EXIT_SHARE * jUse : ENTRY_SHARE * jUse;
             if (jerk <= zone && jerk >= -zone) {
@@ -651,7 +628,7 @@ final class AxisFilter {
         // the plan is inside the bounds, toward its position alone otherwise: chasing an infeasible
         // plan in its own frame would amplify it, and a law that never passes its target cannot
         // leave the range the target spans
-        return commit(flags | minimumTime(wall, planAtRest || feasibility < 1.0 || followable < 1.0 ? 0.0 : planRate));
+        return commit(flags | minimumTime(wall, planAtRest || feasibility.value < 1.0 || followable < 1.0 ? 0.0 : planRate));
     }
 
     /** Constant jerk {@code jerk} over the tick if admissible, otherwise the admissible blend closest to it. */
@@ -763,17 +740,59 @@ final class AxisFilter {
      * of it (the geometric approach alone would stay a few ulps short for ever).
      */
     private double recovered(double x) {
-        double y = x + feasibilityGain * (1.0 - x);
+        return recovered(x, feasibilityGain);
+    }
+
+    private static double recovered(double x, double gain) {
+        double y = x + gain * (1.0 - x);
         return y > 1.0 - 1e-9 ? 1.0 : y;
     }
 
-    /** The share a ratio to the bound allows: (FULL / ratio)^2 beyond FULL, otherwise 2 (no limit). */
-    private static double limitShare(double ratio) {
-        if (ratio > FEED_FORWARD_FULL) {
-            double s = FEED_FORWARD_FULL / ratio;
-            return s * s;
+    /**
+     * One feed-forward share in [0, 1]: falls at once to {@code (FULL / ratio)^2} when the plan's
+     * ratio to a bound is beyond FULL, is held while the plan keeps asking for a share within
+     * HOLD_BAND of it, and recovers toward 1 once SHARE_HOLD has passed since it last did.
+     */
+    static final class FeedShare {
+        double value = 1.0;
+        /** Ticks since the plan last asked for about this share, up to the hold. */
+        private int held;
+        private final int holdTicks;
+        private final double gain;
+
+        FeedShare(int holdTicks, double gain) {
+            this.holdTicks = holdTicks;
+            this.gain = gain;
         }
-        return 2.0;
+
+        /** One tick on: recovers once held for SHARE_HOLD, counts the hold until then. */
+        void age() {
+            if (held >= holdTicks) {
+                value = recovered(value, gain);
+            } else {
+                held++;
+            }
+        }
+
+        /** The plan's ratio to the bound this share looks at, this tick. */
+        void ask(double ratio) {
+            if (!(ratio > FEED_FORWARD_FULL)) {
+                return;
+            }
+            double s = FEED_FORWARD_FULL / ratio;
+            s *= s;
+            if (s <= HOLD_BAND * value) {
+                held = 0;
+                if (s < value) {
+                    value = s;
+                }
+            }
+        }
+
+        void copy(FeedShare o) {
+            value = o.value;
+            held = o.held;
+        }
     }
 
     private void forgetPlan() {
@@ -781,8 +800,8 @@ final class AxisFilter {
         tracking = false;
         planRate = 0.0;
         previousPlanAcceleration = 0.0;
-        feasibility = 1.0;
-        velocityShare = 1.0;
+        feasibility.value = 1.0;
+        velocityShare.value = 1.0;
         followable = 1.0;
         drift = 0.0;
     }
