@@ -2,6 +2,7 @@ package dev.weft.bench;
 
 import dev.weft.filters.Interpolation;
 import dev.weft.filters.TemporalEnsembleBlender;
+import dev.weft.runtime.config.BlendingConfig;
 import dev.weft.runtime.port.CommandFrame;
 import dev.weft.runtime.port.CommandPort;
 import dev.weft.runtime.port.NullPort;
@@ -225,9 +226,9 @@ public final class TickWorkload {
         return (i % 2 == 0 ? 1 : -1) * motion.startOffset;
     }
 
-    /** The runtime's default taper for chunks of {@code steps} steps: half a chunk, whole steps, at least one. */
+    /** The runtime's default taper for chunks of {@code steps} steps (half a chunk, whole steps, at least one). */
     public static double taperSteps(int steps) {
-        return Math.max(1, steps / 2);
+        return BlendingConfig.DEFAULTS.taperSteps(steps);
     }
 
     /** The limits every benchmark uses: {@code joints} equal joints (the values of an arm of common size). */

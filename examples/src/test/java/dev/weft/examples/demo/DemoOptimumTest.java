@@ -79,9 +79,6 @@ class DemoOptimumTest {
     static void load() throws Exception {
         config = WeftConfig.parse(Files.readString(DemoTrackingTest.CONFIG), DemoTrackingTest.CONFIG.getParent(),
                 DemoTrackingTest.CONFIG.toString());
-        // DemoTrackingTest.trace writes its dry-run reports under that class's static temporary
-        // folder, which JUnit sets only while that class runs: point it at this class's own.
-        DemoTrackingTest.reports = reports;
     }
 
     static Iterable<String> episodes() {
@@ -91,7 +88,7 @@ class DemoOptimumTest {
     @ParameterizedTest
     @MethodSource("episodes")
     void theLimiterStaysWithinItsRegressionBoundOfTheOfflineOptimum(String name) throws Exception {
-        DryRunTrace t = DemoTrackingTest.trace(config, name);
+        DryRunTrace t = DemoTrackingTest.trace(config, name, reports);
         double dt = config.timing().controlPeriod();
         int armed = SupervisorState.ARMED.ordinal();
         Map<String, double[]> figures = new LinkedHashMap<>();

@@ -60,10 +60,15 @@ class DemoTrackingTest {
     }
 
     static DryRunTrace trace(WeftConfig c, String name) throws Exception {
+        return trace(c, name, reports);
+    }
+
+    /** Dry-runs one demo episode under {@code c}, writing its report below {@code folder}. */
+    static DryRunTrace trace(WeftConfig c, String name, Path folder) throws Exception {
         Recording rec = Recordings.read(CONFIG.getParent().resolve(BuildDemo.RECORDINGS).resolve(name + ".csv"),
                 c.recordingSpec().orElseThrow());
         GateThresholds gates = GateThresholds.of(c.gates());
-        return DryRun.run(ConfiguredRun.of(c), rec, new DryRun.Options(reports.resolve(name + "-" + c.hashCode()), name,
+        return DryRun.run(ConfiguredRun.of(c), rec, new DryRun.Options(folder.resolve(name + "-" + c.hashCode()), name,
                 false, false, 1, name.equals(BuildDemo.FAULT) ? gates.withStops(1, -1) : gates, null)).trace();
     }
 
