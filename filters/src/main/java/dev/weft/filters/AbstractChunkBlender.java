@@ -42,6 +42,13 @@ abstract class AbstractChunkBlender implements ChunkBlender {
     private final double[] point;
     private final double[] pointVelocity;
     private final double[] pointAcceleration;
+    /**
+     * Running sums of the plan's positions: for a slot holding tick t, the sum over ticks
+     * {@code sumBase..t}, formed by {@link #accept} over the whole plan after each merge.
+     */
+    private final double[] runningSum;
+    /** First tick of the running sums (the nowTick of the latest merge), or NO_TICK. */
+    private long sumBase = NO_TICK;
 
     /** nowTick of the latest non-rejected accept call, or NO_TICK. */
     long lastNow = NO_TICK;
@@ -108,6 +115,7 @@ abstract class AbstractChunkBlender implements ChunkBlender {
         this.point = new double[dims];
         this.pointVelocity = new double[dims];
         this.pointAcceleration = new double[dims];
+        this.runningSum = new double[capacity * dims];
     }
 
     /** How many leading steps of a {@code steps}-long chunk may be executed at all. */
@@ -223,6 +231,7 @@ abstract class AbstractChunkBlender implements ChunkBlender {
             slotTick[slot] = t;
         }
         planEnd = planEndAfter(end);
+        formRunningSums(nowTick);
         if (originTick > planOrigin) {
             planOrigin = originTick;
         }
@@ -240,6 +249,61 @@ abstract class AbstractChunkBlender implements ChunkBlender {
         }
         double count = Math.ceil((firstOffset - TICK_EPSILON) / stepRatio);
         return count >= steps ? steps : (int) count;
+    }
+
+    /** The running sums of the plan's positions from {@code from} to the plan's end. */
+    private void formRunningSums(long from) {
+        sumBase = from;
+        for (int d = 0; d < dims; d++) {
+            pointVelocity[d] = 0.0;
+        }
+        for (long t = from; t <= planEnd; t++) {
+            int slot = (int) (t & mask);
+            readPosition(slot, point);
+            int base = slot * dims;
+            for (int d = 0; d < dims; d++) {
+                pointVelocity[d] += point[d];
+                runningSum[base + d] = pointVelocity[d];
+            }
+        }
+    }
+
+    @Override
+    public final boolean previewMeans(long tick, int blocks, int blockTicks, double[] out) {
+        if (blocks < 1 || blockTicks < 1) {
+            throw new IllegalArgumentException("previewMeans: blocks and blockTicks must be >= 1, got " + blocks
+                    + " and " + blockTicks);
+        }
+        if (out == null || out.length < (long) blocks * dims) {
+            throw new IllegalArgumentException("previewMeans: out must hold at least " + (long) blocks * dims
+                    + " values, got " + (out == null ? "null" : out.length + " values"));
+        }
+        if (!hasPlan(tick)) {
+            return false;
+        }
+        int endSlot = (int) (planEnd & mask);
+        readPosition(endSlot, point);
+        double scale = 1.0 / blockTicks;
+        for (int d = 0; d < dims; d++) {
+            double before = sumThrough(tick - 1, d, endSlot);
+            for (int b = 0; b < blocks; b++) {
+                double after = sumThrough(tick + (long) (b + 1) * blockTicks - 1, d, endSlot);
+                out[d * blocks + b] = (after - before) * scale;
+                before = after;
+            }
+        }
+        return true;
+    }
+
+    /** The running sum of joint d through tick t (t at least sumBase - 1); past the plan's end, its last position held. */
+    private double sumThrough(long t, int d, int endSlot) {
+        if (t < sumBase) {
+            return 0.0;
+        }
+        if (t <= planEnd) {
+            return runningSum[(int) (t & mask) * dims + d];
+        }
+        return runningSum[endSlot * dims + d] + (t - planEnd) * point[d];
     }
 
     private boolean hasPlan(long tick) {
@@ -292,6 +356,7 @@ abstract class AbstractChunkBlender implements ChunkBlender {
         lastNow = NO_TICK;
         planEnd = NO_TICK;
         planOrigin = NO_TICK;
+        sumBase = NO_TICK;
         resetSlots();
     }
 

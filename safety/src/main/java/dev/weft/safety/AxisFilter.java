@@ -75,6 +75,22 @@ final class AxisFilter {
      */
     static final double FOLLOW_DEFICIT = 0.05;
 
+    /** Runs of the receding-horizon law's preview. */
+    /** Runs of the receding-horizon law's preview. */
+    static final int PREVIEW_BLOCKS = 16;
+    /**
+     * Length of the receding-horizon law's preview, s: longer than a joint's stop from full speed
+     * (V / A + A / J, 0.38 s on the demo's lift joint); with 0.2 s the command overshot plans that
+     * reverse at full speed and swung by 0.17 rad.
+     */
+    static final double PREVIEW_HORIZON = 0.4;
+    /**
+     * Position error, in the joint's units, that a jerk at the bound is worth in the receding-horizon
+     * law's cost: the weight of the jerk is (PREVIEW_JERK_PRICE / J)^2 (on the demo, 0.0025 and 0.006
+     * both tracked worse).
+     */
+    static final double PREVIEW_JERK_PRICE = 0.00384;
+
     private final double dt;
     /** Operating range used for planning (already shrunk by the rounding slack). */
     final double qLo;
@@ -144,6 +160,13 @@ final class AxisFilter {
     /** Frame rate of the current minimum-time feasibility checks. */
     private double frameRate;
 
+    /** Gains of the receding-horizon law (shared by joints with the same period). */
+    final PreviewGains gains;
+    /** Ticks of the preview horizon. */
+    private final int horizonTicks;
+    /** Ticks left in which the receding-horizon law leads: renewed whenever the plan, now or ahead, is beyond 0.9 of a bound. */
+    private int previewLatch;
+
     private final double[] base = new double[6];
     private final double[] prof = new double[6];
 
@@ -174,8 +197,11 @@ final class AxisFilter {
     private double eAmax;
 
     AxisFilter(double dt, double lo, double hi, double vMax, double aMax, double jMax,
-               double vMargin, double aMargin, double jMargin, double posSlack) {
+               double vMargin, double aMargin, double jMargin, double posSlack, int previewBlockTicks) {
         this.dt = dt;
+        this.gains = new PreviewGains(dt, PREVIEW_BLOCKS, previewBlockTicks,
+                Math.cbrt(PREVIEW_JERK_PRICE / (jMax - jMargin)));
+        this.horizonTicks = gains.blocks * gains.blockTicks;
         this.qLoHard = lo;
         this.qHiHard = hi;
         this.posSlack = posSlack;
@@ -513,6 +539,14 @@ final class AxisFilter {
      * {@link JerkLimiter}. A plan at rest ({@code pv == pa == 0}) is a set point.
      */
     int follow(double p, double pv, double pa) {
+        return follow(p, pv, pa, null, 0);
+    }
+
+    /**
+     * As {@link #follow(double, double, double)}, with the plan's preview: the mean positions of its
+     * next runs of ticks in {@code preview[at .. at + gains.blocks)}, or {@code preview == null}.
+     */
+    int follow(double p, double pv, double pa, double[] preview, int at) {
         brakeProfile(v, a, base);
         if (!(Double.isFinite(p) && Double.isFinite(pv) && Double.isFinite(pa))) {
             forgetPlan();
@@ -597,6 +631,14 @@ final class AxisFilter {
         previousPlanVelocity = fv;
         havePlan = true;
         boolean planAtRest = fv == 0.0 && fa == 0.0;
+        if (preview != null) {
+            if (ratio > FEED_FORWARD_FULL || (flags & (JerkLimiter.POSITION | JerkLimiter.VELOCITY | JerkLimiter.ACCELERATION)) != 0
+                    || previewBeyond(preview, at)) {
+                previewLatch = horizonTicks;
+            } else if (previewLatch > 0) {
+                previewLatch--;
+            }
+        }
         if (v == 0.0 && a == 0.0 && Math.abs(q - wall) <= posSlack && Math.abs(fv) <= restVelocity
                 && Math.abs(fa) <= restAcceleration) {
             // holding on a plan at rest (to within the position's rounding slack: a blend of equal
@@ -605,7 +647,19 @@ final class AxisFilter {
             tracking = false;
             return flags;
         }
-        if (!planAtRest) {
+        if (preview != null && previewLatch > 0) {
+            // receding horizon: the plan ahead is beyond the bounds, so the least-squares plan of the
+            // command over the preview chooses the jerk, clipped to the bound and to the shield
+            double jerk = gains.boundedJerk(q, v, a, preview, at, jUse, aStrict, vStrict);
+            if (Double.isFinite(jerk)) {
+                tracking = true;
+                if (jerk >= jUse || jerk <= -jUse) {
+                    jerk = jerk > 0.0 ? jUse : -jUse;
+                    flags |= JerkLimiter.JERK;
+                }
+                return commit(flags | shieldConstantJerk(jerk));
+            }
+        } else if (!planAtRest) {
             // linear zone: state feedback on the error predicted at the end of the tick (zero-jerk
             // prediction q0, v0, a), with the plan's derivatives as feed-forward
             double q0 = q + dt * (v + 0.5 * dt * a);
@@ -795,7 +849,40 @@ final class AxisFilter {
         }
     }
 
+    /** Whether the preview's runs move faster than 0.9 of the velocity, acceleration or jerk bound (differences of run means). */
+    private boolean previewBeyond(double[] preview, int at) {
+        int n = gains.blocks;
+        double span = gains.blockTicks * dt;
+        double vLim = FEED_FORWARD_FULL * vStrict * span;
+        double aLim = FEED_FORWARD_FULL * aStrict * span * span;
+        double jLim = FEED_FORWARD_FULL * jUse * span * span * span;
+        double r0 = preview[at];
+        double d1Prev = 0.0;
+        double d2Prev = 0.0;
+        for (int b = 1; b < n; b++) {
+            double r1 = preview[at + b];
+            double d1 = r1 - r0;
+            if (Math.abs(d1) > vLim) {
+                return true;
+            }
+            if (b >= 2) {
+                double d2 = d1 - d1Prev;
+                if (Math.abs(d2) > aLim) {
+                    return true;
+                }
+                if (b >= 3 && Math.abs(d2 - d2Prev) > jLim) {
+                    return true;
+                }
+                d2Prev = d2;
+            }
+            d1Prev = d1;
+            r0 = r1;
+        }
+        return false;
+    }
+
     private void forgetPlan() {
+        previewLatch = 0;
         havePlan = false;
         tracking = false;
         planRate = 0.0;

@@ -124,6 +124,7 @@ public final class JerkLimiter {
         }
         double dt = periodSeconds;
         AxisFilter[] axes = new AxisFilter[limits.count()];
+        int blockTicks = Math.max(1, (int) Math.round(AxisFilter.PREVIEW_HORIZON / (AxisFilter.PREVIEW_BLOCKS * dt)));
         for (int i = 0; i < axes.length; i++) {
             double lo = limits.operatingMin(i);
             double hi = limits.operatingMax(i);
@@ -150,7 +151,7 @@ public final class JerkLimiter {
                 throw new IllegalArgumentException(at + ": operating range [" + lo + ", " + hi
                         + "] is too narrow to be resolved in double precision");
             }
-            axes[i] = new AxisFilter(dt, lo, hi, vMax, aMax, jMax, vMargin, aMargin, jMargin, posSlack);
+            axes[i] = new AxisFilter(dt, lo, hi, vMax, aMax, jMax, vMargin, aMargin, jMargin, posSlack, blockTicks);
         }
         return new JerkLimiter(limits, dt, axes);
     }
@@ -283,6 +284,50 @@ public final class JerkLimiter {
         int all = 0;
         for (int i = 0; i < axes.length; i++) {
             int f = axes[i].follow(target[i], velocity[i], acceleration[i]);
+            jointFlags[i] = f;
+            all |= f;
+            command[i] = axes[i].q;
+        }
+        return all;
+    }
+
+    /** Number of runs of the preview {@link #apply(double[], double[], double[], double[], double[])} takes per joint. */
+    public int previewBlocks() {
+        return axes[0].gains.blocks;
+    }
+
+    /** Ticks per run of the preview. */
+    public int previewBlockTicks() {
+        return axes[0].gains.blockTicks;
+    }
+
+    /**
+     * As {@link #apply(double[], double[], double[], double[])}, with the plan's preview: per joint
+     * {@code d}, the mean plan position over each of the next {@link #previewBlocks()} runs of
+     * {@link #previewBlockTicks()} ticks, the first starting at this tick, at
+     * {@code preview[d * previewBlocks() + b]}. While the plan, now or in the preview, is beyond 0.9 of
+     * a bound, the receding-horizon law chooses the jerk; {@code preview == null} is the same as the
+     * four-argument form.
+     *
+     * @param preview read only, length {@code joints() * previewBlocks()}, or null; any values (a
+     *                non-finite mean leaves that joint on its other laws)
+     */
+    public int apply(double[] target, double[] velocity, double[] acceleration, double[] preview, double[] command) {
+        if (preview == null) {
+            return apply(target, velocity, acceleration, command);
+        }
+        checkLength("target", target);
+        checkLength("velocity", velocity);
+        checkLength("acceleration", acceleration);
+        checkLength("command", command);
+        int blocks = previewBlocks();
+        if (preview.length != axes.length * blocks) {
+            throw new IllegalArgumentException("jerk limiter: preview must have length " + axes.length * blocks
+                    + ", was " + preview.length);
+        }
+        int all = 0;
+        for (int i = 0; i < axes.length; i++) {
+            int f = axes[i].follow(target[i], velocity[i], acceleration[i], preview, i * blocks);
             jointFlags[i] = f;
             all |= f;
             command[i] = axes[i].q;

@@ -135,6 +135,16 @@ public final class Supervisor {
         return powerRemovalRequested;
     }
 
+    /** Runs of the preview {@link #step(long, long, double[], double[], double[], double[], int, double[])} takes per joint. */
+    public int previewBlocks() {
+        return main.previewBlocks();
+    }
+
+    /** Ticks per run of the preview. */
+    public int previewBlockTicks() {
+        return main.previewBlockTicks();
+    }
+
     /** OR of the limiter flags of the last {@link #step}. */
     public int limiterFlags() {
         return lastFlags;
@@ -272,6 +282,18 @@ public final class Supervisor {
      */
     public SupervisorState step(long tick, long timeNanos, double[] target, double[] targetVelocity,
             double[] targetAcceleration, int watchdogCode, double[] command) {
+        return step(tick, timeNanos, target, targetVelocity, targetAcceleration, null, watchdogCode, command);
+    }
+
+    /**
+     * Produces the command of one tick, with the plan's preview for the receding-horizon law of the
+     * full-limit limiter (see {@link JerkLimiter#apply(double[], double[], double[], double[], double[])};
+     * the soft start's ramp does not use it).
+     *
+     * @param preview the plan's run means ahead, layout and length as the limiter asks, or null
+     */
+    public SupervisorState step(long tick, long timeNanos, double[] target, double[] targetVelocity,
+            double[] targetAcceleration, double[] preview, int watchdogCode, double[] command) {
         checkLength("target", target);
         checkLength("target velocity", targetVelocity);
         checkLength("target acceleration", targetAcceleration);
@@ -289,7 +311,7 @@ public final class Supervisor {
                 if (fault != 0 || disarmRequested) {
                     startStop(tick, timeNanos, fault != 0 ? fault : Cause.DISARM_REQUEST, command, true);
                 } else {
-                    stepArming(tick, timeNanos, target, targetVelocity, targetAcceleration, command);
+                    stepArming(tick, timeNanos, target, targetVelocity, targetAcceleration, preview, command);
                 }
                 break;
             case ARMED:
@@ -297,7 +319,7 @@ public final class Supervisor {
                     startStop(tick, timeNanos, fault != 0 ? fault : Cause.DISARM_REQUEST, command, false);
                 } else {
                     active = main;
-                    applyOrStop(main, tick, timeNanos, target, targetVelocity, targetAcceleration, command, false);
+                    applyOrStop(main, tick, timeNanos, target, targetVelocity, targetAcceleration, preview, command, false);
                 }
                 break;
             case STOPPING:
@@ -331,7 +353,7 @@ public final class Supervisor {
      * tick's command the first of the stop.
      */
     private void stepArming(long tick, long timeNanos, double[] target, double[] targetVelocity,
-            double[] targetAcceleration, double[] command) {
+            double[] targetAcceleration, double[] preview, double[] command) {
         armingTicks++;
         if (!catchingUp && armingRampTicks > 0 && armingTicks > armingRampTicks) {
             if (!main.resetFrom(soft)) {
@@ -345,6 +367,7 @@ public final class Supervisor {
         double[] goal = target;
         double[] goalVelocity = targetVelocity;
         double[] goalAcceleration = targetAcceleration;
+        double[] goalPreview = catchingUp ? preview : null;
         if (armingRampTicks > 0 && armingTicks < armingRampTicks) {
             double s = (double) armingTicks / armingRampTicks;
             double rampSeconds = armingRampTicks * period;
@@ -361,7 +384,8 @@ public final class Supervisor {
             goalVelocity = rampVelocity;
             goalAcceleration = rampAcceleration;
         }
-        if (!applyOrStop(limiter, tick, timeNanos, goal, goalVelocity, goalAcceleration, command, !catchingUp)) {
+        if (!applyOrStop(limiter, tick, timeNanos, goal, goalVelocity, goalAcceleration, goalPreview, command,
+                !catchingUp)) {
             return;
         }
         if (armingTicks >= armingRampTicks && withinTolerance(limiter, target)) {
@@ -385,9 +409,9 @@ public final class Supervisor {
      * @return whether the tick went on without a fault
      */
     private boolean applyOrStop(JerkLimiter limiter, long tick, long timeNanos, double[] goal, double[] goalVelocity,
-            double[] goalAcceleration, double[] command, boolean fromArming) {
+            double[] goalAcceleration, double[] preview, double[] command, boolean fromArming) {
         limiter.saveState(saved);
-        lastFlags = limiter.apply(goal, goalVelocity, goalAcceleration, command);
+        lastFlags = limiter.apply(goal, goalVelocity, goalAcceleration, preview, command);
         if ((lastFlags & JerkLimiter.FAULT_FLAGS) == 0) {
             return true;
         }

@@ -45,14 +45,20 @@ class LimiterPropertyTest {
             double[] velocity = new double[joints];
             double[] acceleration = new double[joints];
             double[] command = new double[joints];
-            // half the episodes give the plan's derivatives (hostile ones too), half give set points
-            boolean plan = (e & 1) == 1;
+            // a quarter of the episodes give set points, a quarter the plan's derivatives (hostile ones
+            // too), half the plan's derivatives and a preview ahead (the receding-horizon law), hostile too
+            int kind = e % 4;
+            boolean plan = kind != 0;
+            double[] preview = kind >= 2 ? new double[joints * limiter.previewBlocks()] : null;
             for (int k = 1; k <= TICKS_PER_EPISODE; k++) {
                 source.next(k, target);
                 int flags;
                 if (plan) {
                     source.rates(k, target, velocity, acceleration);
-                    flags = limiter.apply(target, velocity, acceleration, command);
+                    if (preview != null) {
+                        hostilePreview(rng, limits, dt * limiter.previewBlockTicks(), target, velocity, preview);
+                    }
+                    flags = limiter.apply(target, velocity, acceleration, preview, command);
                 } else {
                     flags = limiter.apply(target, command);
                 }
@@ -97,6 +103,36 @@ class LimiterPropertyTest {
         assertThat(worst[0]).isGreaterThan(0.99);
         assertThat(worst[1]).isGreaterThan(0.99);
         assertThat(worst[2]).isGreaterThan(0.99);
+    }
+
+    /**
+     * A preview that mostly goes on from the target at its velocity, with noise; now and then a run
+     * far outside the range, a huge value or a NaN, and sometimes a plan that reverses at once.
+     */
+    static void hostilePreview(SplittableRandom rng, JointLimits limits, double runSeconds, double[] target,
+                               double[] velocity, double[] preview) {
+        int joints = target.length;
+        int blocks = preview.length / joints;
+        for (int i = 0; i < joints; i++) {
+            double range = limits.operatingMax(i) - limits.operatingMin(i);
+            double start = Double.isFinite(target[i]) ? target[i] : limits.operatingMin(i);
+            double rate = Double.isFinite(velocity[i]) ? velocity[i] : 0.0;
+            if (rng.nextInt(50) == 0) {
+                rate = -rate * uniform(rng, 1, 20);
+            }
+            for (int b = 0; b < blocks; b++) {
+                double x = start + rate * (b + 0.5) * runSeconds + range * 0.01 * uniform(rng, -1, 1);
+                int r = rng.nextInt(400);
+                if (r == 0) {
+                    x = Double.NaN;
+                } else if (r == 1) {
+                    x = rng.nextBoolean() ? 1e300 : -1e300;
+                } else if (r < 6) {
+                    x = limits.operatingMin(i) + range * uniform(rng, -10, 10);
+                }
+                preview[i * blocks + b] = x;
+            }
+        }
     }
 
     static JointLimits randomLimits(SplittableRandom rng, int joints) {

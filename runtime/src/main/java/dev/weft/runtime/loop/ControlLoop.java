@@ -88,6 +88,9 @@ public final class ControlLoop implements AutoCloseable {
     private final double[] targetVelocity;
     /** The plan's acceleration at this tick, units/s^2. */
     private final double[] targetAcceleration;
+    /** The plan's run means ahead for the limiter's receding-horizon law (null with a smoother: the preview would be unsmoothed). */
+    private double[] preview;
+    private boolean previewed;
     private final Smoother velocitySmoother;
     private final Smoother accelerationSmoother;
     /** Control ticks per second. */
@@ -242,6 +245,7 @@ public final class ControlLoop implements AutoCloseable {
             measured[i] = observation[positionIndex[i]];
         }
         supervisor = supervisorFactory.apply(measured.clone());
+        preview = smoother == null ? new double[joints * supervisor.previewBlocks()] : null;
         System.arraycopy(measured, 0, command, 0, joints);
         System.arraycopy(measured, 0, previousCommand, 0, joints);
         autoArmPending = settings.armWhenPlanned();
@@ -319,6 +323,8 @@ public final class ControlLoop implements AutoCloseable {
         // 4 the plan's state at this tick, 5 smoothing
         boolean planned = blender.stateAt(n, target, targetVelocity, targetAcceleration);
         long remaining = blender.ticksRemaining(n);
+        previewed = planned && preview != null
+                && blender.previewMeans(n, supervisor.previewBlocks(), supervisor.previewBlockTicks(), preview);
         if (!planned) {
             for (int i = 0; i < joints; i++) {
                 target[i] = Double.NaN;
@@ -357,7 +363,8 @@ public final class ControlLoop implements AutoCloseable {
         // 6 limiter, inside the supervisor: hold when disarmed or faulted, soft start, stop. Without
         // a plan the target is NaN, which the supervisor treats as a fault while moving and ignores
         // while holding, so starvation stops the robot even with PLAN_STARVED switched off.
-        SupervisorState s = supervisor.step(n, deadline - t0, target, targetVelocity, targetAcceleration, code, command);
+        SupervisorState s = supervisor.step(n, deadline - t0, target, targetVelocity, targetAcceleration,
+                previewed ? preview : null, code, command);
 
         // 8 emit (invariant 2: nothing non-finite reaches the port)
         frame.tick = n;
