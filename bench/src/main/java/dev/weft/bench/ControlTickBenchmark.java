@@ -58,10 +58,13 @@ public class ControlTickBenchmark {
     public void setUp(BenchmarkParams params) {
         workload = new TickWorkload(joints, chunkLength, 1_000_000L, motion);
         boolean setPointLaw = params.getBenchmark().endsWith(".setPoint");
+        boolean previewLaw = params.getBenchmark().endsWith(".previewTick");
         // one window of ticks under the law measured, so the limiter is past its start first
         for (int i = 0; i < TickWorkload.WINDOW; i++) {
             if (setPointLaw) {
                 workload.setPointTick(tick++);
+            } else if (previewLaw) {
+                workload.previewTick(tick++);
             } else {
                 workload.tick(tick++);
             }
@@ -72,6 +75,12 @@ public class ControlTickBenchmark {
     @Benchmark
     public int tick() {
         return workload.tick(tick++);
+    }
+
+    /** The tick of an armed loop: plan state and preview, the limiter following both, frame and emit. */
+    @Benchmark
+    public int previewTick() {
+        return workload.previewTick(tick++);
     }
 
     /** For comparison: the same tick with the set-point law (the plan's position as a target at rest). */

@@ -169,6 +169,9 @@ public final class TickWorkload {
     private final double[] velocity;
     private final double[] acceleration;
     private final double[] command;
+    /** The preview of {@link #previewTick}: where its runs end, and the run means per joint. */
+    private final int[] runEnds;
+    private final double[] preview;
     private final double[] previousCommand;
     private final double[][] chunks;
     private int lastFlags;
@@ -201,6 +204,8 @@ public final class TickWorkload {
             }
         }
         this.limiter = JerkLimiter.create(limits(joints), periodNanos * 1e-9);
+        this.runEnds = limiter.previewRunEnds();
+        this.preview = new double[joints * runEnds.length];
         this.target = new double[joints];
         this.velocity = new double[joints];
         this.acceleration = new double[joints];
@@ -284,6 +289,20 @@ public final class TickWorkload {
     public int tick(long tick) {
         long remaining = readState(tick);
         int flags = limiter.apply(target, velocity, acceleration, command);
+        lastFlags = flags;
+        return emit(tick, flags) ^ (int) remaining;
+    }
+
+    /**
+     * One tick as an armed loop without a smoother runs it: the same read-out, the plan's preview
+     * ({@link dev.weft.filters.ChunkBlender#previewMeans}), the limiter following both (the
+     * receding-horizon law wherever the plan is beyond 0.9 of a bound), frame, emit. Not part of
+     * {@link TickExport}: the NumPy tick does not have the receding-horizon law.
+     */
+    public int previewTick(long tick) {
+        long remaining = readState(tick);
+        boolean previewed = remaining > 0 && blender.previewMeans(planTick(tick), runEnds, preview);
+        int flags = limiter.apply(target, velocity, acceleration, previewed ? preview : null, command);
         lastFlags = flags;
         return emit(tick, flags) ^ (int) remaining;
     }

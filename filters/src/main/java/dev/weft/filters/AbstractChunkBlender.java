@@ -269,13 +269,19 @@ abstract class AbstractChunkBlender implements ChunkBlender {
     }
 
     @Override
-    public final boolean previewMeans(long tick, int blocks, int blockTicks, double[] out) {
-        if (blocks < 1 || blockTicks < 1) {
-            throw new IllegalArgumentException("previewMeans: blocks and blockTicks must be >= 1, got " + blocks
-                    + " and " + blockTicks);
+    public final boolean previewMeans(long tick, int[] runEnds, double[] out) {
+        if (runEnds == null || runEnds.length == 0) {
+            throw new IllegalArgumentException("previewMeans: runEnds must hold at least one run");
         }
-        if (out == null || out.length < (long) blocks * dims) {
-            throw new IllegalArgumentException("previewMeans: out must hold at least " + (long) blocks * dims
+        int runs = runEnds.length;
+        for (int b = 0; b < runs; b++) {
+            if (runEnds[b] <= (b == 0 ? 0 : runEnds[b - 1])) {
+                throw new IllegalArgumentException("previewMeans: runEnds must increase strictly from at least 1, got "
+                        + runEnds[b] + " at run " + b);
+            }
+        }
+        if (out == null || out.length < (long) runs * dims) {
+            throw new IllegalArgumentException("previewMeans: out must hold at least " + (long) runs * dims
                     + " values, got " + (out == null ? "null" : out.length + " values"));
         }
         if (!hasPlan(tick)) {
@@ -283,13 +289,14 @@ abstract class AbstractChunkBlender implements ChunkBlender {
         }
         int endSlot = (int) (planEnd & mask);
         readPosition(endSlot, point);
-        double scale = 1.0 / blockTicks;
         for (int d = 0; d < dims; d++) {
             double before = sumThrough(tick - 1, d, endSlot);
-            for (int b = 0; b < blocks; b++) {
-                double after = sumThrough(tick + (long) (b + 1) * blockTicks - 1, d, endSlot);
-                out[d * blocks + b] = (after - before) * scale;
+            int start = 0;
+            for (int b = 0; b < runs; b++) {
+                double after = sumThrough(tick + runEnds[b] - 1, d, endSlot);
+                out[d * runs + b] = (after - before) / (runEnds[b] - start);
                 before = after;
+                start = runEnds[b];
             }
         }
         return true;

@@ -113,27 +113,28 @@ public interface ChunkBlender {
     boolean stateAt(long tick, double[] position, double[] velocity, double[] acceleration);
 
     /**
-     * Writes the plan's preview ahead of {@code tick}: the mean position of each of {@code blocks}
-     * consecutive runs of {@code blockTicks} ticks, the first run starting at {@code tick} itself. Past
-     * the plan's last tick the plan is taken to hold its last position (a plan that ends is a plan that
-     * stops there). Layout joint-major: block {@code b} of joint {@code d} at {@code out[d·blocks + b]}.
+     * Writes the plan's preview ahead of {@code tick}: the mean position over each of consecutive runs
+     * of ticks, the first starting at {@code tick} itself, run {@code b} ending before
+     * {@code tick + runEnds[b]} (so run b holds {@code runEnds[b] - runEnds[b-1]} ticks, with
+     * {@code runEnds[-1] = 0}). Past the plan's last tick the plan is taken to hold its last position
+     * (a plan that ends is a plan that stops there). Layout joint-major: run {@code b} of joint
+     * {@code d} at {@code out[d·runs + b]}, {@code runs = runEnds.length}.
      *
      * <p>The means come from running sums over the plan's ticks, formed once per accepted chunk, so the
-     * cost is O(blocks·D) whatever {@code blockTicks} is; allocation-free; never blocks; control-loop
-     * thread only. Each mean is the difference of two running sums divided by {@code blockTicks}: it
-     * differs from the mean summed afresh by rounding of the order of the ulp of the running sum (the
-     * plan's magnitude times its length in ticks).
+     * cost is O(runs·D) whatever the runs' lengths; allocation-free; never blocks; control-loop thread
+     * only. Each mean is the difference of two running sums divided by the run's length: it differs
+     * from the mean summed afresh by rounding of the order of the ulp of the running sum (the plan's
+     * magnitude times its length in ticks).
      *
-     * @param tick       a control tick, normally the current one
-     * @param blocks     number of runs, {@code ≥ 1}
-     * @param blockTicks ticks per run, {@code ≥ 1}
-     * @param out        caller-owned, length at least {@code blocks·dimensions()}
+     * @param tick    a control tick, normally the current one
+     * @param runEnds strictly increasing, the first {@code ≥ 1}; read only
+     * @param out     caller-owned, length at least {@code runEnds.length·dimensions()}
      * @return {@code true} if the plan covers {@code tick} (then {@code out} was written); {@code false}
      *         leaves {@code out} untouched
-     * @throws IllegalArgumentException if {@code blocks} or {@code blockTicks} is below 1, or {@code out}
-     *         is null or too short (a programming error, never a data error)
+     * @throws IllegalArgumentException if {@code runEnds} is null, empty or not strictly increasing from
+     *         at least 1, or {@code out} is null or too short (a programming error, never a data error)
      */
-    boolean previewMeans(long tick, int blocks, int blockTicks, double[] out);
+    boolean previewMeans(long tick, int[] runEnds, double[] out);
 
     /**
      * How many consecutive ticks, starting at and including {@code tick}, the plan covers. O(1);

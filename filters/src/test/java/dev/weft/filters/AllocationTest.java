@@ -7,7 +7,7 @@ import java.util.Random;
 import org.junit.jupiter.api.Test;
 
 /**
- * The per-tick paths (accept, actionAt, stateAt, ticksRemaining, smoother apply) allocate nothing, for every
+ * The per-tick paths (accept, actionAt, stateAt, previewMeans, ticksRemaining, smoother apply) allocate nothing, for every
  * blender and interpolation (the natural spline's Thomas solve included) and with the ensemble's taper: measured with
  * the JVM's per-thread allocation counter (com.sun.management.ThreadMXBean), not with timing.
  */
@@ -40,6 +40,8 @@ class AllocationTest {
         double[] out = new double[7];
         double[] velocity = new double[7];
         double[] acceleration = new double[7];
+        int[] runEnds = {1, 2, 4, 6, 9, 12, 16, 22, 29, 39, 52, 68, 89, 117, 153, 200};
+        double[] preview = new double[7 * runEnds.length];
         assertThat(allocated()).isPositive();
         long overhead = -(allocated() - allocated());
         long tick = 0;
@@ -51,7 +53,8 @@ class AllocationTest {
                     if (tick % 10 == 0) {
                         sink += b.accept(chunk, 16, tick - 3, tick);
                     }
-                    if (b.stateAt(tick, out, velocity, acceleration) && b.actionAt(tick, out)) {
+                    if (b.stateAt(tick, out, velocity, acceleration) && b.actionAt(tick, out)
+                            && b.previewMeans(tick, runEnds, preview)) {
                         sink += b.ticksRemaining(tick);
                         for (Smoother s : smoothers) {
                             s.apply(out, out);

@@ -386,4 +386,72 @@ class ChunkBlenderContractTest {
             assertThat(b.ticksRemaining(t)).isEqualTo(ticks - t);
         }
     }
+
+    /**
+     * The preview's run means equal means summed afresh from {@code actionAt}, tick by tick, with
+     * the plan's last position held past its end, over chunks arriving late and overlapping; a tick
+     * without a plan leaves the output untouched.
+     */
+    @ParameterizedTest(name = "{0}")
+    @MethodSource("blenders")
+    void previewMeansAreTheMeansOfThePlanAheadWithItsLastPositionHeld(String name, Factory factory, int executable) {
+        ChunkBlender b = factory.create(D, K, 3.0, Interpolation.CUBIC_SPLINE);
+        Random rng = new Random(7);
+        int[] ends = {1, 2, 4, 7, 12, 20, 33, 60};
+        double[] out = new double[ends.length * D];
+        double[] here = new double[D];
+        double[] last = new double[D];
+        double[] chunk = new double[K * D];
+        assertThat(b.previewMeans(0, ends, out)).isFalse();
+        int checked = 0;
+        for (long now = 0; now < 120; now++) {
+            if (now % 5 == 0) {
+                for (int i = 0; i < chunk.length; i++) {
+                    chunk[i] = 0.3 * Math.sin(0.05 * now + i) + 0.01 * rng.nextGaussian();
+                }
+                b.accept(chunk, K, Math.max(0, now - 2), now);
+            }
+            java.util.Arrays.fill(out, 42.0);
+            boolean planned = b.previewMeans(now, ends, out);
+            assertThat(planned).isEqualTo(b.ticksRemaining(now) > 0);
+            if (!planned) {
+                assertThat(out).containsOnly(42.0);
+                continue;
+            }
+            long end = now + b.ticksRemaining(now) - 1;
+            assertThat(b.actionAt(end, last)).isTrue();
+            for (int d = 0; d < D; d++) {
+                for (int r = 0, from = 0; r < ends.length; from = ends[r], r++) {
+                    double sum = 0;
+                    for (int t = from; t < ends[r]; t++) {
+                        if (now + t <= end) {
+                            assertThat(b.actionAt(now + t, here)).isTrue();
+                            sum += here[d];
+                        } else {
+                            sum += last[d];
+                        }
+                    }
+                    // running sums over a plan of at most a few dozen ticks of values below 1
+                    assertThat(out[d * ends.length + r]).as("%s tick %d joint %d run %d", name, now, d, r)
+                            .isCloseTo(sum / (ends[r] - from), within(1e-13));
+                    checked++;
+                }
+            }
+        }
+        assertThat(checked).isGreaterThan(1000);
+    }
+
+    @ParameterizedTest(name = "{0}")
+    @MethodSource("blenders")
+    void previewMeansRefusesMalformedRuns(String name, Factory factory, int executable) {
+        ChunkBlender b = factory.create(D, K, 1.0, Interpolation.LINEAR);
+        assertThatThrownBy(() -> b.previewMeans(0, new int[0], new double[D])).isInstanceOf(IllegalArgumentException.class)
+                .hasMessageContaining("runEnds");
+        assertThatThrownBy(() -> b.previewMeans(0, new int[] {2, 2}, new double[2 * D]))
+                .isInstanceOf(IllegalArgumentException.class).hasMessageContaining("at run 1");
+        assertThatThrownBy(() -> b.previewMeans(0, new int[] {0}, new double[D]))
+                .isInstanceOf(IllegalArgumentException.class).hasMessageContaining("at run 0");
+        assertThatThrownBy(() -> b.previewMeans(0, new int[] {1, 3}, new double[D]))
+                .isInstanceOf(IllegalArgumentException.class).hasMessageContaining("at least " + 2 * D);
+    }
 }

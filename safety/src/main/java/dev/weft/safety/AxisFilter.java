@@ -90,6 +90,23 @@ final class AxisFilter {
      * both tracked worse).
      */
     static final double PREVIEW_JERK_PRICE = 0.00384;
+    /** Growth of the runs' lengths from the first run to the last. */
+    static final double PREVIEW_GROWTH = 1.3;
+
+    /**
+     * Lengths in ticks of the preview's runs at period dt: PREVIEW_BLOCKS runs growing geometrically
+     * by PREVIEW_GROWTH, together about PREVIEW_HORIZON long, none shorter than a tick.
+     */
+    static int[] previewRuns(double dt) {
+        double total = Math.max(PREVIEW_BLOCKS, PREVIEW_HORIZON / dt);
+        double r = PREVIEW_GROWTH;
+        double first = r == 1.0 ? total / PREVIEW_BLOCKS : total * (r - 1.0) / (Math.pow(r, PREVIEW_BLOCKS) - 1.0);
+        int[] runs = new int[PREVIEW_BLOCKS];
+        for (int b = 0; b < PREVIEW_BLOCKS; b++) {
+            runs[b] = Math.max(1, (int) Math.round(first * Math.pow(r, b)));
+        }
+        return runs;
+    }
 
     private final double dt;
     /** Operating range used for planning (already shrunk by the rounding slack). */
@@ -197,11 +214,10 @@ final class AxisFilter {
     private double eAmax;
 
     AxisFilter(double dt, double lo, double hi, double vMax, double aMax, double jMax,
-               double vMargin, double aMargin, double jMargin, double posSlack, int previewBlockTicks) {
+               double vMargin, double aMargin, double jMargin, double posSlack, int[] previewRuns) {
         this.dt = dt;
-        this.gains = new PreviewGains(dt, PREVIEW_BLOCKS, previewBlockTicks,
-                Math.cbrt(PREVIEW_JERK_PRICE / (jMax - jMargin)));
-        this.horizonTicks = gains.blocks * gains.blockTicks;
+        this.gains = new PreviewGains(dt, previewRuns, Math.cbrt(PREVIEW_JERK_PRICE / (jMax - jMargin)));
+        this.horizonTicks = gains.horizonTicks;
         this.qLoHard = lo;
         this.qHiHard = hi;
         this.posSlack = posSlack;
@@ -544,7 +560,7 @@ final class AxisFilter {
 
     /**
      * As {@link #follow(double, double, double)}, with the plan's preview: the mean positions of its
-     * next runs of ticks in {@code preview[at .. at + gains.blocks)}, or {@code preview == null}.
+     * next runs of ticks in {@code preview[at .. at + gains.runs)}, or {@code preview == null}.
      */
     int follow(double p, double pv, double pa, double[] preview, int at) {
         brakeProfile(v, a, base);
@@ -653,8 +669,7 @@ final class AxisFilter {
             double jerk = gains.boundedJerk(q, v, a, preview, at, jUse, aStrict, vStrict);
             if (Double.isFinite(jerk)) {
                 tracking = true;
-                if (jerk >= jUse || jerk <= -jUse) {
-                    jerk = jerk > 0.0 ? jUse : -jUse;
+                if (gains.firstAtBound) {
                     flags |= JerkLimiter.JERK;
                 }
                 return commit(flags | shieldConstantJerk(jerk));
@@ -849,34 +864,28 @@ final class AxisFilter {
         }
     }
 
-    /** Whether the preview's runs move faster than 0.9 of the velocity, acceleration or jerk bound (differences of run means). */
+    /**
+     * Whether the plan's preview moves faster than 0.9 of the velocity or acceleration bound:
+     * Newton's divided differences of the run means at the runs' centres, times 1 and 2. (Not the
+     * jerk: a run's mean is its centre's value plus half the curvature times the variance of its
+     * ticks' times, and at the short first runs that bias alone made the third differences of a plan
+     * at 0.36 of the jerk bound read 1.8 of it. The plan's jerk counts at the current tick.)
+     */
     private boolean previewBeyond(double[] preview, int at) {
-        int n = gains.blocks;
-        double span = gains.blockTicks * dt;
-        double vLim = FEED_FORWARD_FULL * vStrict * span;
-        double aLim = FEED_FORWARD_FULL * aStrict * span * span;
-        double jLim = FEED_FORWARD_FULL * jUse * span * span * span;
-        double r0 = preview[at];
+        int n = gains.runs;
+        double[] c = gains.centres;
+        double vLim = FEED_FORWARD_FULL * vStrict;
+        double aLim = FEED_FORWARD_FULL * aStrict / 2.0;
         double d1Prev = 0.0;
-        double d2Prev = 0.0;
         for (int b = 1; b < n; b++) {
-            double r1 = preview[at + b];
-            double d1 = r1 - r0;
+            double d1 = (preview[at + b] - preview[at + b - 1]) / (c[b] - c[b - 1]);
             if (Math.abs(d1) > vLim) {
                 return true;
             }
-            if (b >= 2) {
-                double d2 = d1 - d1Prev;
-                if (Math.abs(d2) > aLim) {
-                    return true;
-                }
-                if (b >= 3 && Math.abs(d2 - d2Prev) > jLim) {
-                    return true;
-                }
-                d2Prev = d2;
+            if (b >= 2 && Math.abs((d1 - d1Prev) / (c[b] - c[b - 2])) > aLim) {
+                return true;
             }
             d1Prev = d1;
-            r0 = r1;
         }
         return false;
     }

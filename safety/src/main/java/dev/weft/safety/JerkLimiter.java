@@ -124,7 +124,7 @@ public final class JerkLimiter {
         }
         double dt = periodSeconds;
         AxisFilter[] axes = new AxisFilter[limits.count()];
-        int blockTicks = Math.max(1, (int) Math.round(AxisFilter.PREVIEW_HORIZON / (AxisFilter.PREVIEW_BLOCKS * dt)));
+        int[] previewRuns = AxisFilter.previewRuns(dt);
         for (int i = 0; i < axes.length; i++) {
             double lo = limits.operatingMin(i);
             double hi = limits.operatingMax(i);
@@ -151,7 +151,7 @@ public final class JerkLimiter {
                 throw new IllegalArgumentException(at + ": operating range [" + lo + ", " + hi
                         + "] is too narrow to be resolved in double precision");
             }
-            axes[i] = new AxisFilter(dt, lo, hi, vMax, aMax, jMax, vMargin, aMargin, jMargin, posSlack, blockTicks);
+            axes[i] = new AxisFilter(dt, lo, hi, vMax, aMax, jMax, vMargin, aMargin, jMargin, posSlack, previewRuns);
         }
         return new JerkLimiter(limits, dt, axes);
     }
@@ -292,24 +292,27 @@ public final class JerkLimiter {
     }
 
     /** Number of runs of the preview {@link #apply(double[], double[], double[], double[], double[])} takes per joint. */
-    public int previewBlocks() {
-        return axes[0].gains.blocks;
+    public int previewRuns() {
+        return axes[0].gains.runs;
     }
 
-    /** Ticks per run of the preview. */
-    public int previewBlockTicks() {
-        return axes[0].gains.blockTicks;
+    /**
+     * Where each run of the preview ends, in ticks from the tick of the command: run {@code b} holds
+     * the ticks {@code [ends[b-1], ends[b])} ahead, with {@code ends[-1] = 0} (a fresh copy).
+     */
+    public int[] previewRunEnds() {
+        return axes[0].gains.runEnds.clone();
     }
 
     /**
      * As {@link #apply(double[], double[], double[], double[])}, with the plan's preview: per joint
-     * {@code d}, the mean plan position over each of the next {@link #previewBlocks()} runs of
-     * {@link #previewBlockTicks()} ticks, the first starting at this tick, at
-     * {@code preview[d * previewBlocks() + b]}. While the plan, now or in the preview, is beyond 0.9 of
+     * {@code d}, the mean plan position over each of the {@link #previewRuns()} runs of ticks ahead
+     * that {@link #previewRunEnds()} gives, the first starting at this tick, at
+     * {@code preview[d * previewRuns() + b]}. While the plan, now or in the preview, is beyond 0.9 of
      * a bound, the receding-horizon law chooses the jerk; {@code preview == null} is the same as the
      * four-argument form.
      *
-     * @param preview read only, length {@code joints() * previewBlocks()}, or null; any values (a
+     * @param preview read only, length {@code joints() * previewRuns()}, or null; any values (a
      *                non-finite mean leaves that joint on its other laws)
      */
     public int apply(double[] target, double[] velocity, double[] acceleration, double[] preview, double[] command) {
@@ -320,7 +323,7 @@ public final class JerkLimiter {
         checkLength("velocity", velocity);
         checkLength("acceleration", acceleration);
         checkLength("command", command);
-        int blocks = previewBlocks();
+        int blocks = previewRuns();
         if (preview.length != axes.length * blocks) {
             throw new IllegalArgumentException("jerk limiter: preview must have length " + axes.length * blocks
                     + ", was " + preview.length);

@@ -1,209 +1,212 @@
 package dev.weft.safety;
 
 /**
- * Gains of the receding-horizon law: the first jerk of the unconstrained least-squares plan of the
- * commanded trajectory over the plan's preview, as a linear function of the preview and the state.
+ * The receding-horizon law of one joint: the first jerk of a least-squares plan of the commanded
+ * trajectory over the plan's preview, with the jerk inside its bound and the acceleration and
+ * velocity kept near theirs.
  *
  * <p>The commanded trajectory is the jerk-driven triple integrator sampled at {@code dt}. Over the
- * horizon of {@code blocks} runs of {@code blockTicks} ticks, its jerk is held constant over each run
- * (move blocking, as in Maciejowski, <i>Predictive Control with Constraints</i>, Prentice Hall 2002,
- * Section 3.2), so the decision is {@code u = (u_0 .. u_{B-1})}. The command's mean position over run
- * {@code b} is affine in the state {@code x = (q, v, a)} and in {@code u}: {@code c_b = F_b x + G_b u}.
- * The law minimises {@code sum_b (c_b - r_b)^2 + tau^6 sum_j u_j^2} over {@code u}, with {@code r_b}
- * the plan's mean over the same run and {@code tau} a time that prices jerk in position units (a jerk
- * {@code u} held for {@code tau} moves the command by about {@code u tau^3}). The minimiser is
- * {@code u = (G'G + tau^6 I)^-1 G' (r - F x)}; only its first entry is used, and only for one tick,
- * before the next tick solves again: {@code u_0 = sum_b w_b r_b - wq q - wv v - wa a}.
+ * horizon, split into runs of ticks, its jerk is held constant over each run (move blocking, as in
+ * Maciejowski, <i>Predictive Control with Constraints</i>, Prentice Hall 2002, Section 3.2), so the
+ * decision is {@code u = (u_0 .. u_{B-1})}; the first runs are short, so that the first jerk, the one
+ * used, is planned almost as finely as it is applied. The command's mean position over run {@code b}
+ * is affine in the state {@code x = (q, v, a)} and in {@code u}: {@code c_b = F_b x + G_b u}. The law
+ * minimises {@code sum_b n_b (c_b - r_b)^2 + tau^6 sum_j n_j u_j^2}, with {@code r_b} the plan's mean
+ * over the same run of {@code n_b} ticks and {@code tau} the time that prices jerk in position units
+ * (a jerk {@code u} held for {@code tau} moves the command by about {@code u tau^3}), subject to
+ * {@code |u_j| <= J}: a box-constrained quadratic program, solved by the primal-dual active set
+ * method (Hintermüller, Ito and Kunisch, SIAM J. Optim. 13(3), 2002, which for a box is a
+ * semismooth Newton method and ends in a few iterations). The accelerations and velocities at the
+ * ends of the runs are kept near their bounds by quadratic penalties added where a solution breaks
+ * them, up to {@link #OUTER} more solves (an exterior penalty method). Only the first jerk is used,
+ * for one tick, before the next tick solves again. The shield of {@link AxisFilter} then keeps
+ * every bound exactly; the penalties only keep the plan from counting on what the shield will not
+ * allow.
  *
- * <p>Built once at construction (allocates); the gains are then read on the control thread.
+ * <p>Built once at construction (allocates); then the control thread alone calls
+ * {@link #boundedJerk}, which allocates nothing.
  */
 final class PreviewGains {
 
-    final int blocks;
-    final int blockTicks;
-    /** Weights of the plan's run means in the first jerk. */
-    final double[] w;
-    /** Gains on the state (sum of w_b times F_b). */
-    final double wq;
-    final double wv;
-    final double wa;
+    /** Weight of a penalised acceleration or velocity beyond its bound (with a position run weighing its ticks). */
+    static final double PENALTY = 100.0;
+    /** Rounds of penalties added after the first solve. */
+    static final int OUTER = 3;
+    /** Largest number of active-set steps of one box-constrained solve (three per run). */
+    static final int MAX_ITERATIONS = 48;
 
-    PreviewGains(double dt, int blocks, int blockTicks, double jerkTime) {
-        if (blocks < 1 || blockTicks < 1 || !(dt > 0.0) || !(jerkTime > 0.0)) {
-            throw new IllegalArgumentException("preview gains: blocks " + blocks + ", ticks " + blockTicks
-                    + ", dt " + dt + ", jerk time " + jerkTime);
-        }
-        this.blocks = blocks;
-        this.blockTicks = blockTicks;
-        // time in units of one run, so that the entries of G are of order one
-        double span = blockTicks * dt;
-        double h = dt / span;
-        int steps = blocks * blockTicks;
-        double[][] g = new double[blocks][blocks];
-        double[][] f = new double[blocks][3];
-        for (int j = 0; j < blocks; j++) {
-            double p = 0.0;
-            double vel = 0.0;
-            double acc = 0.0;
-            for (int s = 0; s < steps; s++) {
-                double jerk = s / blockTicks == j ? 1.0 : 0.0;
-                p += h * (vel + h * (0.5 * acc + h * jerk / 6.0));
-                vel += h * (acc + 0.5 * h * jerk);
-                acc += h * jerk;
-                g[s / blockTicks][j] += p / blockTicks;
-            }
-        }
-        for (int s = 0; s < steps; s++) {
-            double t = (s + 1) * h;
-            f[s / blockTicks][0] += 1.0 / blockTicks;
-            f[s / blockTicks][1] += t / blockTicks;
-            f[s / blockTicks][2] += 0.5 * t * t / blockTicks;
-        }
-        double lambda = Math.pow(jerkTime / span, 6);
-        double[][] hess = new double[blocks][blocks];
-        for (int r = 0; r < blocks; r++) {
-            for (int c = 0; c < blocks; c++) {
-                double sum = r == c ? lambda : 0.0;
-                for (int b = 0; b < blocks; b++) {
-                    sum += g[b][r] * g[b][c];
-                }
-                hess[r][c] = sum;
-            }
-        }
-        this.g = g;
-        this.f = f;
-        this.span = span;
-        this.hess = new double[blocks][blocks];
-        for (int r = 0; r < blocks; r++) {
-            System.arraycopy(hess[r], 0, this.hess[r], 0, blocks);
-        }
-        this.b = new double[blocks];
-        this.u = new double[blocks];
-        this.mu = new double[blocks];
-        this.state = new int[blocks];
-        this.chol = new double[blocks][blocks];
-        this.rhs = new double[blocks];
-        this.free = new int[blocks];
-        this.hmod = new double[blocks][blocks];
-        this.bmod = new double[blocks];
-        this.penalised = new boolean[2 * blocks];
-        double diag = 0.0;
-        for (int r = 0; r < blocks; r++) {
-            diag += this.hess[r][r];
-        }
-        this.dualScale = blocks / diag;
-        double[] y = new double[blocks];
-        y[0] = 1.0;
-        solve(hess, y);
-        this.w = new double[blocks];
-        double sq = 0.0;
-        double sv = 0.0;
-        double sa = 0.0;
-        for (int b = 0; b < blocks; b++) {
-            double s = 0.0;
-            for (int j = 0; j < blocks; j++) {
-                s += g[b][j] * y[j];
-            }
-            // back from run units to seconds: jerk in units of 1/span^3
-            w[b] = s / (span * span * span);
-            sq += w[b] * f[b][0];
-            sv += w[b] * f[b][1] * span;
-            sa += w[b] * f[b][2] * span * span;
-        }
-        this.wq = sq;
-        this.wv = sv;
-        this.wa = sa;
-    }
-
-    /** Response of the run means to the run jerks, and to the state, in run units; the cost's Hessian. */
+    final int runs;
+    /** Tick offset (from this tick) of the end of each run, exclusive. */
+    final int[] runEnds;
+    final int horizonTicks;
+    /** Time of each run's centre from this tick's command, s (the mean of its ticks' times). */
+    final double[] centres;
+    /** The time unit of the internal problem, s (so that its entries are of order one). */
+    private final double unit;
+    /** Run means of the position for a unit jerk in run j, and for the state. */
     private final double[][] g;
     private final double[][] f;
-    private final double span;
+    /** Acceleration and velocity at the end of run k for a unit jerk in run j (rows 0..B-1 and B..2B-1). */
+    private final double[][] rate;
+    /** Their part from the state: acceleration rows take a, velocity rows v + t_k a (t_k in units). */
+    private final double[] endTime;
+    private final double[] weight;
     private final double[][] hess;
-    private final double dualScale;
-    /** Scratch of the constrained solve. */
+
+    private final double[][] hmod;
     private final double[] b;
     private final double[] u;
     private final double[] mu;
+    private final double[] x;
     private final int[] state;
     private final double[][] chol;
     private final double[] rhs;
     private final int[] free;
-    /** Iterations the last constrained solve took. */
-    int iterations;
-    /** Hessian and gradient of the current penalised problem. */
-    private final double[][] hmod;
-    private final double[] bmod;
-    /** Which run-end accelerations (0..B-1) and velocities (B..2B-1) carry a penalty. */
     private final boolean[] penalised;
-    /** Weight of a penalised acceleration or velocity beyond its bound. */
-    static final double PENALTY = 100.0;
-    /** Rounds of penalties added after the first solve. */
-    static final int OUTER = 3;
+    /** Active-set iterations of the last solve (all rounds). */
+    int iterations;
+    /** Whether the last solve put the first run's jerk at its bound. */
+    boolean firstAtBound;
 
-    /** Largest number of active-set iterations of one constrained solve. */
-    static final int MAX_ITERATIONS = 12;
-
-    /**
-     * The first jerk of the least-squares plan with every run's jerk inside {@code [-jMax, jMax]}:
-     * the box-constrained quadratic program solved by the primal-dual active set method (Hintermüller,
-     * Ito and Kunisch, SIAM J. Optim. 13(3), 2002), started from the unconstrained solution clipped to
-     * the box, at most {@link #MAX_ITERATIONS} iterations (the last iterate, clipped, otherwise).
-     */
-    double boxedJerk(double q, double v, double a, double[] preview, int at, double jMax, double unconstrained) {
-        return boundedJerk(q, v, a, preview, at, jMax, Double.POSITIVE_INFINITY, Double.POSITIVE_INFINITY);
+    PreviewGains(double dt, int[] runTicks, double jerkTime) {
+        if (runTicks.length < 1 || !(dt > 0.0) || !(jerkTime > 0.0)) {
+            throw new IllegalArgumentException("preview: " + runTicks.length + " runs, dt " + dt + ", jerk time " + jerkTime);
+        }
+        int n = runTicks.length;
+        this.runs = n;
+        this.runEnds = new int[n];
+        int total = 0;
+        for (int j = 0; j < n; j++) {
+            if (runTicks[j] < 1) {
+                throw new IllegalArgumentException("preview: run " + j + " has " + runTicks[j] + " ticks");
+            }
+            total += runTicks[j];
+            runEnds[j] = total;
+        }
+        this.horizonTicks = total;
+        this.centres = new double[n];
+        for (int j = 0; j < n; j++) {
+            int from = j == 0 ? 0 : runEnds[j - 1];
+            centres[j] = 0.5 * (from + runEnds[j] - 1) * dt;
+        }
+        this.unit = total * dt / n;
+        double h = dt / unit;
+        int[] runOf = new int[total];
+        for (int s = 0, j = 0; s < total; s++) {
+            if (s >= runEnds[j]) {
+                j++;
+            }
+            runOf[s] = j;
+        }
+        this.g = new double[n][n];
+        this.f = new double[n][3];
+        this.rate = new double[2 * n][n];
+        this.endTime = new double[n];
+        this.weight = new double[n];
+        for (int k = 0; k < n; k++) {
+            weight[k] = runTicks[k];
+            endTime[k] = runEnds[k] * h;
+        }
+        for (int j = 0; j < n; j++) {
+            double p = 0.0;
+            double vel = 0.0;
+            double acc = 0.0;
+            for (int s = 0; s < total; s++) {
+                double jerk = runOf[s] == j ? 1.0 : 0.0;
+                p += h * (vel + h * (0.5 * acc + h * jerk / 6.0));
+                vel += h * (acc + 0.5 * h * jerk);
+                acc += h * jerk;
+                int k = runOf[s];
+                g[k][j] += p / runTicks[k];
+                if (s + 1 == runEnds[k]) {
+                    rate[k][j] = acc;
+                    rate[n + k][j] = vel;
+                }
+            }
+        }
+        for (int s = 0; s < total; s++) {
+            double t = (s + 1) * h;
+            int k = runOf[s];
+            f[k][0] += 1.0 / runTicks[k];
+            f[k][1] += t / runTicks[k];
+            f[k][2] += 0.5 * t * t / runTicks[k];
+        }
+        double lambda = Math.pow(jerkTime / unit, 6);
+        this.hess = new double[n][n];
+        for (int r = 0; r < n; r++) {
+            for (int c = 0; c < n; c++) {
+                double sum = r == c ? lambda * weight[r] : 0.0;
+                for (int k = 0; k < n; k++) {
+                    sum += weight[k] * g[k][r] * g[k][c];
+                }
+                hess[r][c] = sum;
+            }
+        }
+        this.hmod = new double[n][n];
+        this.b = new double[n];
+        this.u = new double[n];
+        this.mu = new double[n];
+        this.x = new double[n];
+        this.state = new int[n];
+        this.chol = new double[n][n];
+        this.rhs = new double[n];
+        this.free = new int[n];
+        this.penalised = new boolean[2 * n];
     }
 
     /**
-     * As {@link #boxedJerk}, with the accelerations and velocities at the ends of the runs kept near
-     * {@code aMax} and {@code vMax} by penalties added where the plan breaks them (up to OUTER rounds).
+     * The first jerk for state (q, v, a) and the run means {@code preview[at .. at + runs)}, with
+     * {@code |jerk| <= jMax} (exactly {@code +-jMax} when the first run is at its bound, see
+     * {@link #firstAtBound}); non-finite when the preview is.
      */
     double boundedJerk(double q, double v, double a, double[] preview, int at, double jMax, double aMax, double vMax) {
-        int n = blocks;
-        double vs = v * span;
-        double as = a * span * span;
-        double aLim = aMax * span * span;
-        double vLim = vMax * span;
+        int n = runs;
+        double u1 = unit;
+        double vs = v * u1;
+        double as = a * u1 * u1;
+        double aLim = aMax * u1 * u1;
+        double vLim = vMax * u1;
+        double jLim = jMax * u1 * u1 * u1;
         for (int k = 0; k < 2 * n; k++) {
             penalised[k] = false;
         }
-        double first = 0.0;
+        iterations = 0;
         for (int round = 0; round <= OUTER; round++) {
             for (int r = 0; r < n; r++) {
                 System.arraycopy(hess[r], 0, hmod[r], 0, n);
+                b[r] = 0.0;
             }
-            for (int j = 0; j < n; j++) {
-                bmod[j] = 0.0;
+            for (int k = 0; k < n; k++) {
+                double res = preview[at + k] - (f[k][0] * q + f[k][1] * vs + f[k][2] * as);
+                double wr = weight[k] * res;
+                double[] gk = g[k];
+                for (int j = 0; j < n; j++) {
+                    b[j] += gk[j] * wr;
+                }
             }
             for (int k = 0; k < 2 * n; k++) {
                 if (!penalised[k]) {
                     continue;
                 }
-                // acceleration at the end of run k: as + sum_{j<=k} u_j; velocity: vs + (k+1) as + sum_{j<=k} (k - j + 1/2) u_j
-                int kk = k < n ? k : k - n;
-                double offset = k < n ? as : vs + (kk + 1) * as;
-                double now = offset;
-                for (int j = 0; j <= kk; j++) {
-                    now += row(k, kk, j) * u[j];
-                }
+                double offset = freeRate(k, vs, as);
                 double lim = k < n ? aLim : vLim;
-                double goal = now > 0 ? lim : -lim;
-                for (int r = 0; r <= kk; r++) {
-                    double cr = row(k, kk, r);
-                    bmod[r] += PENALTY * cr * (goal - offset);
-                    for (int c = 0; c <= kk; c++) {
-                        hmod[r][c] += PENALTY * cr * row(k, kk, c);
+                double goal = (offset + dot(rate[k], u)) > 0.0 ? lim : -lim;
+                double[] ck = rate[k];
+                for (int r = 0; r < n; r++) {
+                    double cr = ck[r];
+                    if (cr == 0.0) {
+                        continue;
+                    }
+                    b[r] += PENALTY * cr * (goal - offset);
+                    for (int c = 0; c < n; c++) {
+                        hmod[r][c] += PENALTY * cr * ck[c];
                     }
                 }
             }
-            first = solveBox(q, vs, as, preview, at, jMax);
+            solveBox(jLim);
             boolean added = false;
             for (int k = 0; k < 2 * n; k++) {
-                int kk = k < n ? k : k - n;
-                double x = k < n ? as : vs + (kk + 1) * as;
-                for (int j = 0; j <= kk; j++) {
-                    x += row(k, kk, j) * u[j];
-                }
+                double x = freeRate(k, vs, as) + dot(rate[k], u);
                 double lim = k < n ? aLim : vLim;
                 if (!penalised[k] && (x > lim || x < -lim)) {
                     penalised[k] = true;
@@ -214,60 +217,97 @@ final class PreviewGains {
                 break;
             }
         }
-        return first;
+        double first = u[0];
+        firstAtBound = first >= jLim || first <= -jLim;
+        return firstAtBound ? (first > 0.0 ? jMax : -jMax) : first / (u1 * u1 * u1);
     }
 
-    private static double row(int k, int kk, int j) {
-        return k == kk ? 1.0 : (kk - j + 0.5);
+    private double freeRate(int k, double vs, double as) {
+        return k < runs ? as : vs + endTime[k - runs] * as;
     }
 
-    private double solveBox(double q, double vs, double as, double[] preview, int at, double jMax) {
-        int n = blocks;
-        double lim = jMax * span * span * span;
-        for (int j = 0; j < n; j++) {
-            b[j] = bmod[j];
+    private double dot(double[] x, double[] y) {
+        double s = 0.0;
+        for (int j = 0; j < runs; j++) {
+            s += x[j] * y[j];
         }
-        for (int r = 0; r < n; r++) {
-            double res = preview[at + r] - (f[r][0] * q + f[r][1] * vs + f[r][2] * as);
-            double[] gr = g[r];
-            for (int j = 0; j < n; j++) {
-                b[j] += gr[j] * res;
-            }
-        }
-        // start: every run free, then the active sets of the clipped unconstrained plan
+        return s;
+    }
+
+    /**
+     * The box-constrained minimiser of {@code u' hmod u / 2 - b' u}, |u| <= lim, by a primal active
+     * set method (the strategy of Stark and Parker's bounded-variable least squares, Computational
+     * Statistics 10, 1995): from u = 0, solve on the free runs; step toward that solution until a
+     * run meets its bound and fix it there; once the solution is inside the box, free the fixed run
+     * whose multiplier has the wrong sign most. The cost falls at every step. Leaves the result in
+     * {@code u}; stops after {@link #MAX_ITERATIONS} steps with the feasible point reached.
+     */
+    private void solveBox(double lim) {
+        int n = runs;
         for (int j = 0; j < n; j++) {
             state[j] = 0;
+            x[j] = 0.0;
         }
-        solveFree(lim);
-        iterations = 0;
         for (int it = 0; it < MAX_ITERATIONS; it++) {
-            iterations = it + 1;
-            boolean changed = false;
+            iterations++;
+            solveFree(lim);
+            // the largest step from x toward the free solution that stays in the box
+            double step = 1.0;
+            int hit = -1;
             for (int j = 0; j < n; j++) {
-                double trial = u[j] + dualScale * mu[j];
-                int next = trial > lim ? 1 : (trial < -lim ? -1 : 0);
-                if (next != state[j]) {
-                    state[j] = next;
-                    changed = true;
+                if (state[j] != 0) {
+                    continue;
+                }
+                double to = u[j];
+                if (to > lim || to < -lim) {
+                    double bound = to > 0.0 ? lim : -lim;
+                    double s = (bound - x[j]) / (to - x[j]);
+                    if (s < step) {
+                        step = s;
+                        hit = j;
+                    }
                 }
             }
-            if (!changed) {
+            if (hit >= 0) {
+                for (int j = 0; j < n; j++) {
+                    if (state[j] == 0) {
+                        x[j] += step * (u[j] - x[j]);
+                    }
+                }
+                state[hit] = u[hit] > 0.0 ? 1 : -1;
+                x[hit] = state[hit] * lim;
+                continue;
+            }
+            for (int j = 0; j < n; j++) {
+                x[j] = u[j];
+            }
+            // the solution is in the box: free the fixed run whose multiplier pulls inward most
+            int release = -1;
+            double worst = 0.0;
+            for (int j = 0; j < n; j++) {
+                if (state[j] == 0) {
+                    continue;
+                }
+                // mu is b - hmod u: the descent direction; at +lim it must not point down, at -lim not up
+                double wrong = -state[j] * mu[j];
+                if (wrong > worst) {
+                    worst = wrong;
+                    release = j;
+                }
+            }
+            if (release < 0) {
                 break;
             }
-            solveFree(lim);
+            state[release] = 0;
         }
-        double first = u[0];
-        if (first > lim) {
-            first = lim;
-        } else if (first < -lim) {
-            first = -lim;
+        for (int j = 0; j < n; j++) {
+            u[j] = x[j];
         }
-        return first / (span * span * span);
     }
 
-    /** Fixes the active runs at their bound, solves for the free ones, and sets the multipliers. */
+    /** Fixes the active runs at their bound, solves for the free ones (Cholesky), and sets the multipliers. */
     private void solveFree(double lim) {
-        int n = blocks;
+        int n = runs;
         int m = 0;
         for (int j = 0; j < n; j++) {
             if (state[j] == 0) {
@@ -320,48 +360,6 @@ final class PreviewGains {
                 }
                 mu[j] = s;
             }
-        }
-    }
-
-    /** The unconstrained first jerk for state (q, v, a) and the run means {@code preview[at .. at + blocks)}. */
-    double jerk(double q, double v, double a, double[] preview, int at) {
-        double s = 0.0;
-        for (int b = 0; b < blocks; b++) {
-            s += w[b] * preview[at + b];
-        }
-        return s - wq * q - wv * v - wa * a;
-    }
-
-    /** Solves {@code m x = rhs} in place (rhs becomes x) by Gaussian elimination with partial pivoting. */
-    private static void solve(double[][] m, double[] rhs) {
-        int n = rhs.length;
-        for (int c = 0; c < n; c++) {
-            int piv = c;
-            for (int r = c + 1; r < n; r++) {
-                if (Math.abs(m[r][c]) > Math.abs(m[piv][c])) {
-                    piv = r;
-                }
-            }
-            double[] tmp = m[c];
-            m[c] = m[piv];
-            m[piv] = tmp;
-            double t = rhs[c];
-            rhs[c] = rhs[piv];
-            rhs[piv] = t;
-            for (int r = c + 1; r < n; r++) {
-                double k = m[r][c] / m[c][c];
-                for (int k2 = c; k2 < n; k2++) {
-                    m[r][k2] -= k * m[c][k2];
-                }
-                rhs[r] -= k * rhs[c];
-            }
-        }
-        for (int r = n - 1; r >= 0; r--) {
-            double s = rhs[r];
-            for (int c = r + 1; c < n; c++) {
-                s -= m[r][c] * rhs[c];
-            }
-            rhs[r] = s / m[r][r];
         }
     }
 }

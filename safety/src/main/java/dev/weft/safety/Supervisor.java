@@ -136,13 +136,13 @@ public final class Supervisor {
     }
 
     /** Runs of the preview {@link #step(long, long, double[], double[], double[], double[], int, double[])} takes per joint. */
-    public int previewBlocks() {
-        return main.previewBlocks();
+    public int previewRuns() {
+        return main.previewRuns();
     }
 
-    /** Ticks per run of the preview. */
-    public int previewBlockTicks() {
-        return main.previewBlockTicks();
+    /** Where each run of the preview ends, in ticks ahead (see {@link JerkLimiter#previewRunEnds()}). */
+    public int[] previewRunEnds() {
+        return main.previewRunEnds();
     }
 
     /** OR of the limiter flags of the last {@link #step}. */
@@ -287,8 +287,10 @@ public final class Supervisor {
 
     /**
      * Produces the command of one tick, with the plan's preview for the receding-horizon law of the
-     * full-limit limiter (see {@link JerkLimiter#apply(double[], double[], double[], double[], double[])};
-     * the soft start's ramp does not use it).
+     * full-limit limiter once ARMED (see {@link JerkLimiter#apply(double[], double[], double[], double[], double[])}).
+     * While arming, neither the ramp nor the catch-up after it uses it: the receding-horizon law
+     * closing a gap of tenths of a radian at full speed arrived with the speed still off the plan's,
+     * and overshot by up to 70 mrad on the demo.
      *
      * @param preview the plan's run means ahead, layout and length as the limiter asks, or null
      */
@@ -311,7 +313,7 @@ public final class Supervisor {
                 if (fault != 0 || disarmRequested) {
                     startStop(tick, timeNanos, fault != 0 ? fault : Cause.DISARM_REQUEST, command, true);
                 } else {
-                    stepArming(tick, timeNanos, target, targetVelocity, targetAcceleration, preview, command);
+                    stepArming(tick, timeNanos, target, targetVelocity, targetAcceleration, command);
                 }
                 break;
             case ARMED:
@@ -353,7 +355,7 @@ public final class Supervisor {
      * tick's command the first of the stop.
      */
     private void stepArming(long tick, long timeNanos, double[] target, double[] targetVelocity,
-            double[] targetAcceleration, double[] preview, double[] command) {
+            double[] targetAcceleration, double[] command) {
         armingTicks++;
         if (!catchingUp && armingRampTicks > 0 && armingTicks > armingRampTicks) {
             if (!main.resetFrom(soft)) {
@@ -367,7 +369,6 @@ public final class Supervisor {
         double[] goal = target;
         double[] goalVelocity = targetVelocity;
         double[] goalAcceleration = targetAcceleration;
-        double[] goalPreview = catchingUp ? preview : null;
         if (armingRampTicks > 0 && armingTicks < armingRampTicks) {
             double s = (double) armingTicks / armingRampTicks;
             double rampSeconds = armingRampTicks * period;
@@ -384,8 +385,7 @@ public final class Supervisor {
             goalVelocity = rampVelocity;
             goalAcceleration = rampAcceleration;
         }
-        if (!applyOrStop(limiter, tick, timeNanos, goal, goalVelocity, goalAcceleration, goalPreview, command,
-                !catchingUp)) {
+        if (!applyOrStop(limiter, tick, timeNanos, goal, goalVelocity, goalAcceleration, null, command, !catchingUp)) {
             return;
         }
         if (armingTicks >= armingRampTicks && withinTolerance(limiter, target)) {

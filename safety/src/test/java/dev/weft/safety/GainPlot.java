@@ -9,7 +9,9 @@ import java.util.Locale;
 /**
  * Draws the limiter's measured gain against frequency (docs/img/limiter-gain.svg): for each wiggle
  * amplitude, the peak-to-peak of the command's deviation from the hold pose over the target's, at
- * frequencies from 1 to 100 Hz, on the demo's lift joint at 500 Hz ({@link WiggleResponse}).
+ * frequencies from 1 to 100 Hz, on the demo's lift joint at 500 Hz ({@link WiggleResponse}): in black
+ * with the plan's state alone (the soft start, a loop with a smoother), in blue with the plan's
+ * preview as well (an armed loop, the receding-horizon law).
  * Remake it with:
  * <pre>
  * mvn -B -q -pl safety test-compile exec:java -Dexec.mainClass=dev.weft.safety.GainPlot \
@@ -33,22 +35,22 @@ public final class GainPlot {
         System.out.println("wrote " + out);
     }
 
-    static double[][] gains() {
+    static double[][] gains(boolean preview) {
         double[][] g = new double[AMPLITUDES.length][FREQUENCIES.length];
         for (int a = 0; a < AMPLITUDES.length; a++) {
             for (int f = 0; f < FREQUENCIES.length; f++) {
-                g[a][f] = WiggleResponse.measure(WiggleResponse.liftJoint(), DT, AMPLITUDES[a], FREQUENCIES[f]).gain;
+                g[a][f] = WiggleResponse.measure(WiggleResponse.liftJoint(), DT, AMPLITUDES[a], FREQUENCIES[f], preview).gain;
             }
         }
         return g;
     }
 
     static String svg() {
-        double[][] g = gains();
-        int w = 640;
+        double[][][] gs = {gains(false), gains(true)};
+        int w = 700;
         int h = 400;
         int left = 70;
-        int right = 170;
+        int right = 230;
         int top = 30;
         int bottom = 50;
         double xMin = Math.log10(1);
@@ -84,27 +86,33 @@ public final class GainPlot {
         s.append("<text x=\"").append(left).append("\" y=\"18\">Lift joint of the demo arm (1.4 rad/s, 5 rad/s², 50 rad/s³), 500 Hz, holding 0.3 rad</text>\n");
         String[] dash = {"", "6 3", "2 3"};
         String[] marker = {"circle", "square", "triangle"};
-        for (int a = 0; a < AMPLITUDES.length; a++) {
-            StringBuilder pts = new StringBuilder();
-            for (int f = 0; f < FREQUENCIES.length; f++) {
-                double x = left + pw * (Math.log10(FREQUENCIES[f]) - xMin) / (xMax - xMin);
-                double y = top + ph * (yMax - Math.log10(Math.max(g[a][f], 1e-5))) / (yMax - yMin);
-                pts.append(String.format(Locale.ROOT, "%.1f,%.1f ", x, y));
-                s.append(mark(marker[a], x, y));
+        String[] colour = {"black", "#1f5fb4"};
+        String[] law = {"state only", "with preview"};
+        for (int p = 0; p < 2; p++) {
+            double[][] g = gs[p];
+            for (int a = 0; a < AMPLITUDES.length; a++) {
+                StringBuilder pts = new StringBuilder();
+                for (int f = 0; f < FREQUENCIES.length; f++) {
+                    double x = left + pw * (Math.log10(FREQUENCIES[f]) - xMin) / (xMax - xMin);
+                    double y = top + ph * (yMax - Math.log10(Math.max(g[a][f], 1e-5))) / (yMax - yMin);
+                    pts.append(String.format(Locale.ROOT, "%.1f,%.1f ", x, y));
+                    s.append(mark(marker[a], x, y, colour[p]));
+                }
+                s.append("<polyline fill=\"none\" stroke=\"").append(colour[p]).append("\" stroke-width=\"1.5\"")
+                        .append(dash[a].isEmpty() ? "" : " stroke-dasharray=\"" + dash[a] + "\"")
+                        .append(" points=\"").append(pts.toString().trim()).append("\"/>\n");
+                double ly = top + 110 + 22 * (a + 4 * p);
+                double lx = left + pw + 12;
+                s.append("<line x1=\"").append(String.format(Locale.ROOT, "%.1f", lx)).append("\" y1=\"")
+                        .append(String.format(Locale.ROOT, "%.1f", ly)).append("\" x2=\"")
+                        .append(String.format(Locale.ROOT, "%.1f", lx + 30)).append("\" y2=\"")
+                        .append(String.format(Locale.ROOT, "%.1f", ly)).append("\" stroke=\"").append(colour[p])
+                        .append("\" stroke-width=\"1.5\"")
+                        .append(dash[a].isEmpty() ? "" : " stroke-dasharray=\"" + dash[a] + "\"").append("/>\n");
+                s.append(mark(marker[a], lx + 15, ly, colour[p]));
+                s.append(String.format(Locale.ROOT, "<text x=\"%.1f\" y=\"%.1f\" fill=\"%s\">%s mrad, %s</text>%n", lx + 36,
+                        ly + 4, colour[p], trim(AMPLITUDES[a] * 1e3), law[p]));
             }
-            s.append("<polyline fill=\"none\" stroke=\"black\" stroke-width=\"1.5\"")
-                    .append(dash[a].isEmpty() ? "" : " stroke-dasharray=\"" + dash[a] + "\"")
-                    .append(" points=\"").append(pts.toString().trim()).append("\"/>\n");
-            double ly = top + 150 + 22 * a;
-            double lx = left + pw + 12;
-            s.append("<line x1=\"").append(String.format(Locale.ROOT, "%.1f", lx)).append("\" y1=\"")
-                    .append(String.format(Locale.ROOT, "%.1f", ly)).append("\" x2=\"")
-                    .append(String.format(Locale.ROOT, "%.1f", lx + 30)).append("\" y2=\"")
-                    .append(String.format(Locale.ROOT, "%.1f", ly)).append("\" stroke=\"black\" stroke-width=\"1.5\"")
-                    .append(dash[a].isEmpty() ? "" : " stroke-dasharray=\"" + dash[a] + "\"").append("/>\n");
-            s.append(mark(marker[a], lx + 15, ly));
-            s.append(String.format(Locale.ROOT, "<text x=\"%.1f\" y=\"%.1f\">%s mrad</text>%n", lx + 36, ly + 4,
-                    trim(AMPLITUDES[a] * 1e3)));
         }
         s.append("</svg>\n");
         return s.toString();
@@ -114,15 +122,15 @@ public final class GainPlot {
         return x == Math.rint(x) ? String.valueOf((long) x) : String.valueOf(x);
     }
 
-    private static String mark(String kind, double x, double y) {
+    private static String mark(String kind, double x, double y, String colour) {
         switch (kind) {
             case "circle":
-                return String.format(Locale.ROOT, "<circle cx=\"%.1f\" cy=\"%.1f\" r=\"3.5\" fill=\"white\" stroke=\"black\"/>%n", x, y);
+                return String.format(Locale.ROOT, "<circle cx=\"%.1f\" cy=\"%.1f\" r=\"3.5\" fill=\"white\" stroke=\"%s\"/>%n", x, y, colour);
             case "square":
-                return String.format(Locale.ROOT, "<rect x=\"%.1f\" y=\"%.1f\" width=\"7\" height=\"7\" fill=\"black\"/>%n", x - 3.5, y - 3.5);
+                return String.format(Locale.ROOT, "<rect x=\"%.1f\" y=\"%.1f\" width=\"7\" height=\"7\" fill=\"%s\"/>%n", x - 3.5, y - 3.5, colour);
             default:
-                return String.format(Locale.ROOT, "<polygon points=\"%.1f,%.1f %.1f,%.1f %.1f,%.1f\" fill=\"white\" stroke=\"black\"/>%n",
-                        x, y - 4.5, x - 4, y + 3, x + 4, y + 3);
+                return String.format(Locale.ROOT, "<polygon points=\"%.1f,%.1f %.1f,%.1f %.1f,%.1f\" fill=\"white\" stroke=\"%s\"/>%n",
+                        x, y - 4.5, x - 4, y + 3, x + 4, y + 3, colour);
         }
     }
 }

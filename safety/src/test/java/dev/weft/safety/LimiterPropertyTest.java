@@ -49,14 +49,14 @@ class LimiterPropertyTest {
             // too), half the plan's derivatives and a preview ahead (the receding-horizon law), hostile too
             int kind = e % 4;
             boolean plan = kind != 0;
-            double[] preview = kind >= 2 ? new double[joints * limiter.previewBlocks()] : null;
+            double[] preview = kind >= 2 ? new double[joints * limiter.previewRuns()] : null;
             for (int k = 1; k <= TICKS_PER_EPISODE; k++) {
                 source.next(k, target);
                 int flags;
                 if (plan) {
                     source.rates(k, target, velocity, acceleration);
                     if (preview != null) {
-                        hostilePreview(rng, limits, dt * limiter.previewBlockTicks(), target, velocity, preview);
+                        hostilePreview(rng, limits, dt * limiter.previewRunEnds()[limiter.previewRuns() - 1] / limiter.previewRuns(), target, velocity, preview);
                     }
                     flags = limiter.apply(target, velocity, acceleration, preview, command);
                 } else {

@@ -41,7 +41,18 @@ final class WiggleResponse {
     }
 
     static WiggleResponse measure(JointLimits limits, double dt, double amplitude, double hertz) {
+        return measure(limits, dt, amplitude, hertz, false);
+    }
+
+    /**
+     * As {@link #measure(JointLimits, double, double, double)}; with {@code preview}, the limiter
+     * also gets the plan's preview, the means of the target over the runs ahead that the limiter
+     * asks for, summed afresh from the target at each tick.
+     */
+    static WiggleResponse measure(JointLimits limits, double dt, double amplitude, double hertz, boolean preview) {
         JerkLimiter l = JerkLimiter.create(limits, dt);
+        int[] ends = l.previewRunEnds();
+        double[] ahead = preview ? new double[ends.length] : null;
         if (!l.reset(new double[] {HOLD})) {
             throw new IllegalStateException("hold pose not accepted");
         }
@@ -59,8 +70,23 @@ final class WiggleResponse {
         int flagged = 0;
         double largestError = 0;
         double w = 2 * Math.PI * hertz;
+        double[] track = new double[settle + window + 2 + ends[ends.length - 1]];
+        for (int k = 1; k < track.length; k++) {
+            track[k] = target(k * dt, amplitude, w);
+        }
         for (int k = 1; k <= settle + window; k++) {
             double t = k * dt;
+            if (ahead != null) {
+                int from = 0;
+                for (int b = 0; b < ends.length; b++) {
+                    double sum = 0;
+                    for (int i = from; i < ends[b]; i++) {
+                        sum += track[k + i];
+                    }
+                    ahead[b] = sum / (ends[b] - from);
+                    from = ends[b];
+                }
+            }
             // the wiggle fades in over the first second along a quintic smooth step, so a feasible
             // one starts without a mismatch between the held state and the plan
             double s = Math.min(1.0, t / FADE_IN_SECONDS);
@@ -72,7 +98,7 @@ final class WiggleResponse {
             p[0] = HOLD + amplitude * e * sin;
             pv[0] = amplitude * (e1 * sin + e * w * cos);
             pa[0] = amplitude * (e2 * sin + 2 * e1 * w * cos - e * w * w * sin);
-            int flags = l.apply(p, pv, pa, c);
+            int flags = l.apply(p, pv, pa, ahead, c);
             if (k > settle) {
                 double d = c[0] - HOLD;
                 dev[k - settle - 1] = d;
@@ -86,6 +112,18 @@ final class WiggleResponse {
                 }
             }
         }
+        return spectrum(dev, window, hertz, amplitude, hi - lo, thi - tlo, flagged, largestError);
+    }
+
+    /** The wiggle's position at time t (the fade-in times the sine, on the hold pose). */
+    private static double target(double t, double amplitude, double w) {
+        double s = Math.min(1.0, t / FADE_IN_SECONDS);
+        double e = s * s * s * (10 - 15 * s + 6 * s * s);
+        return HOLD + amplitude * e * Math.sin(w * t);
+    }
+
+    private static WiggleResponse spectrum(double[] dev, int window, double hertz, double amplitude, double span,
+                                           double targetSpan, int flagged, double largestError) {
         // plain DFT over the window; the wiggle's own bin is the one at 'hertz', its harmonics the
         // multiples of it
         int own = (int) Math.round(hertz * WINDOW_SECONDS);
@@ -109,6 +147,6 @@ final class WiggleResponse {
                 other = Math.max(other, amp);
             }
         }
-        return new WiggleResponse((hi - lo) / (thi - tlo), other / amplitude, flagged / (double) window, largestError, harmonic / amplitude);
+        return new WiggleResponse(span / targetSpan, other / amplitude, flagged / (double) window, largestError, harmonic / amplitude);
     }
 }

@@ -90,6 +90,7 @@ public final class ControlLoop implements AutoCloseable {
     private final double[] targetAcceleration;
     /** The plan's run means ahead for the limiter's receding-horizon law (null with a smoother: the preview would be unsmoothed). */
     private double[] preview;
+    private int[] previewRunEnds;
     private boolean previewed;
     private final Smoother velocitySmoother;
     private final Smoother accelerationSmoother;
@@ -245,7 +246,8 @@ public final class ControlLoop implements AutoCloseable {
             measured[i] = observation[positionIndex[i]];
         }
         supervisor = supervisorFactory.apply(measured.clone());
-        preview = smoother == null ? new double[joints * supervisor.previewBlocks()] : null;
+        preview = smoother == null ? new double[joints * supervisor.previewRuns()] : null;
+        previewRunEnds = supervisor.previewRunEnds();
         System.arraycopy(measured, 0, command, 0, joints);
         System.arraycopy(measured, 0, previousCommand, 0, joints);
         autoArmPending = settings.armWhenPlanned();
@@ -324,7 +326,7 @@ public final class ControlLoop implements AutoCloseable {
         boolean planned = blender.stateAt(n, target, targetVelocity, targetAcceleration);
         long remaining = blender.ticksRemaining(n);
         previewed = planned && preview != null
-                && blender.previewMeans(n, supervisor.previewBlocks(), supervisor.previewBlockTicks(), preview);
+                && blender.previewMeans(n, previewRunEnds, preview);
         if (!planned) {
             for (int i = 0; i < joints; i++) {
                 target[i] = Double.NaN;
