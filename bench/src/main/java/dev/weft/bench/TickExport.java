@@ -12,7 +12,11 @@ import java.util.Locale;
  * (the NumPy one in {@code bench/numpy_tick.py}) can be fed the same input and checked against
  * the same output before it is timed.
  *
- * <pre>{@code java -cp bench/target/benchmarks.jar dev.weft.bench.TickExport JOINTS STEPS TICKS MOTION FILE}</pre>
+ * <pre>{@code java -cp bench/target/benchmarks.jar dev.weft.bench.TickExport JOINTS STEPS TICKS MOTION FILE [PREVIEW]}</pre>
+ *
+ * <p>With {@code PREVIEW}, every tick is {@link TickWorkload#previewTick} (the plan's preview as
+ * well, the receding-horizon law where the plan is beyond the bounds) and the file says so, with the
+ * preview's run ends.
  *
  * <p>The file is JSON: the parameters (joints, steps, window, first plan tick, weight rate, taper,
  * interpolation, period, tick rate, limits, how far from the plan's first position each joint
@@ -37,10 +41,11 @@ public final class TickExport {
     }
 
     public static void main(String[] args) throws IOException {
-        if (args.length != 5) {
-            System.err.println("usage: TickExport JOINTS STEPS TICKS OSCILLATING|HOLDING|HOLDING_ANY_POSE|CATCHING_UP FILE");
+        if (args.length != 5 && !(args.length == 6 && args[5].equals("PREVIEW"))) {
+            System.err.println("usage: TickExport JOINTS STEPS TICKS OSCILLATING|HOLDING|HOLDING_ANY_POSE|CATCHING_UP FILE [PREVIEW]");
             System.exit(2);
         }
+        boolean preview = args.length == 6;
         int joints = Integer.parseInt(args[0]);
         int steps = Integer.parseInt(args[1]);
         int ticks = Integer.parseInt(args[2]);
@@ -60,7 +65,13 @@ public final class TickExport {
                     + ",\n\"taper_steps\": " + number(TickWorkload.taperSteps(steps))
                     + ",\n\"interpolation\": \"CUBIC_SPLINE\",\n\"step_ratio\": 1.0"
                     + ",\n\"period_s\": " + number(dt) + ",\n\"tick_rate\": " + number(1e9 / periodNanos)
-                    + ",\n\"motion\": \"" + motion + "\",\n");
+                    + ",\n\"motion\": \"" + motion + "\",\n\"preview\": " + preview + ",\n");
+            int[] ends = w.previewRunEnds();
+            out.write("\"preview_run_ends\": [");
+            for (int b = 0; b < ends.length; b++) {
+                out.write((b == 0 ? "" : ", ") + ends[b]);
+            }
+            out.write("],\n");
             out.write("\"position_bound\": " + number(TickWorkload.POSITION_BOUND)
                     + ",\n\"velocity\": " + number(TickWorkload.VELOCITY)
                     + ",\n\"acceleration\": " + number(TickWorkload.ACCELERATION)
@@ -90,7 +101,11 @@ public final class TickExport {
             double[] acceleration = new double[joints];
             int[] flags = new int[joints];
             for (int n = 0; n < ticks; n++) {
-                w.tick(n);
+                if (preview) {
+                    w.previewTick(n);
+                } else {
+                    w.tick(n);
+                }
                 for (int i = 0; i < joints; i++) {
                     velocity[i] = w.velocity(i);
                     acceleration[i] = w.acceleration(i);

@@ -8,6 +8,7 @@ import dev.weft.runtime.port.CommandPort;
 import dev.weft.runtime.port.NullPort;
 import dev.weft.safety.JerkLimiter;
 import dev.weft.safety.JointLimits;
+import dev.weft.safety.PlanPreview;
 
 /**
  * The control tick as the benchmarks and the NumPy comparison run it: the plan's state from the
@@ -169,9 +170,10 @@ public final class TickWorkload {
     private final double[] velocity;
     private final double[] acceleration;
     private final double[] command;
-    /** The preview of {@link #previewTick}: where its runs end, and the run means per joint. */
+    /** The preview of {@link #previewTick}: where its runs end, and the plan ahead read per joint as the limiter asks. */
     private final int[] runEnds;
-    private final double[] preview;
+    private final PlanPreview preview;
+    private long previewTick;
     private final double[] previousCommand;
     private final double[][] chunks;
     private int lastFlags;
@@ -205,7 +207,7 @@ public final class TickWorkload {
         }
         this.limiter = JerkLimiter.create(limits(joints), periodNanos * 1e-9);
         this.runEnds = limiter.previewRunEnds();
-        this.preview = new double[joints * runEnds.length];
+        this.preview = (joint, out) -> blender.previewMeans(previewTick, runEnds, joint, out);
         this.target = new double[joints];
         this.velocity = new double[joints];
         this.acceleration = new double[joints];
@@ -294,17 +296,23 @@ public final class TickWorkload {
     }
 
     /**
-     * One tick as an armed loop without a smoother runs it: the same read-out, the plan's preview
-     * ({@link dev.weft.filters.ChunkBlender#previewMeans}), the limiter following both (the
-     * receding-horizon law wherever the plan is beyond 0.9 of a bound), frame, emit. Not part of
-     * {@link TickExport}: the NumPy tick does not have the receding-horizon law.
+     * One tick as an armed loop without a smoother runs it: the same read-out, the limiter following
+     * the plan and its preview (read per joint from the blender as the limiter asks,
+     * {@link dev.weft.filters.ChunkBlender#previewMeans(long, int[], int, double[])}) (the
+     * receding-horizon law wherever the plan is beyond 0.9 of a bound), frame, emit. {@link TickExport}
+     * writes it with {@code PREVIEW} for the NumPy tick's check.
      */
     public int previewTick(long tick) {
         long remaining = readState(tick);
-        boolean previewed = remaining > 0 && blender.previewMeans(planTick(tick), runEnds, preview);
-        int flags = limiter.apply(target, velocity, acceleration, previewed ? preview : null, command);
+        previewTick = planTick(tick);
+        int flags = limiter.apply(target, velocity, acceleration, remaining > 0 ? preview : null, command);
         lastFlags = flags;
         return emit(tick, flags) ^ (int) remaining;
+    }
+
+    /** Where the preview's runs end, in ticks ahead (a copy). */
+    public int[] previewRunEnds() {
+        return runEnds.clone();
     }
 
     /**

@@ -150,6 +150,9 @@ abstract class AbstractChunkBlender implements ChunkBlender {
     /** Writes the position held in {@code slot} into {@code out}. */
     abstract void readPosition(int slot, double[] out);
 
+    /** The position of one dimension held in {@code slot}: bit for bit what {@link #readPosition(int, double[])} writes there. */
+    abstract double readPosition(int slot, int dimension);
+
     /**
      * Writes the state held in {@code slot}; the position must be bit for bit what
      * {@link #readPosition} writes.
@@ -270,47 +273,69 @@ abstract class AbstractChunkBlender implements ChunkBlender {
 
     @Override
     public final boolean previewMeans(long tick, int[] runEnds, double[] out) {
+        checkRuns(runEnds, out, (long) runEnds.length * dims);
+        if (!hasPlan(tick)) {
+            return false;
+        }
+        int runs = runEnds.length;
+        for (int d = 0; d < dims; d++) {
+            runMeans(tick, runEnds, d, out, d * runs);
+        }
+        return true;
+    }
+
+    @Override
+    public final boolean previewMeans(long tick, int[] runEnds, int dimension, double[] out) {
+        if (dimension < 0 || dimension >= dims) {
+            throw new IllegalArgumentException("previewMeans: dimension must be in [0, " + dims + "), got " + dimension);
+        }
+        checkRuns(runEnds, out, runEnds == null ? 0 : runEnds.length);
+        if (!hasPlan(tick)) {
+            return false;
+        }
+        runMeans(tick, runEnds, dimension, out, 0);
+        return true;
+    }
+
+    private void checkRuns(int[] runEnds, double[] out, long needed) {
         if (runEnds == null || runEnds.length == 0) {
             throw new IllegalArgumentException("previewMeans: runEnds must hold at least one run");
         }
-        int runs = runEnds.length;
-        for (int b = 0; b < runs; b++) {
+        for (int b = 0; b < runEnds.length; b++) {
             if (runEnds[b] <= (b == 0 ? 0 : runEnds[b - 1])) {
                 throw new IllegalArgumentException("previewMeans: runEnds must increase strictly from at least 1, got "
                         + runEnds[b] + " at run " + b);
             }
         }
-        if (out == null || out.length < (long) runs * dims) {
-            throw new IllegalArgumentException("previewMeans: out must hold at least " + (long) runs * dims
+        if (out == null || out.length < needed) {
+            throw new IllegalArgumentException("previewMeans: out must hold at least " + needed
                     + " values, got " + (out == null ? "null" : out.length + " values"));
         }
-        if (!hasPlan(tick)) {
-            return false;
-        }
+    }
+
+    /** The run means of dimension d ahead of tick into out[at ..]; the plan covers tick. */
+    private void runMeans(long tick, int[] runEnds, int d, double[] out, int at) {
         int endSlot = (int) (planEnd & mask);
-        readPosition(endSlot, point);
-        for (int d = 0; d < dims; d++) {
-            double before = sumThrough(tick - 1, d, endSlot);
-            int start = 0;
-            for (int b = 0; b < runs; b++) {
-                double after = sumThrough(tick + runEnds[b] - 1, d, endSlot);
-                out[d * runs + b] = (after - before) / (runEnds[b] - start);
-                before = after;
-                start = runEnds[b];
-            }
+        double endPosition = readPosition(endSlot, d);
+        double before = sumThrough(tick - 1, d, endSlot, endPosition);
+        int start = 0;
+        for (int b = 0; b < runEnds.length; b++) {
+            double after = sumThrough(tick + runEnds[b] - 1, d, endSlot, endPosition);
+            out[at + b] = (after - before) / (runEnds[b] - start);
+            before = after;
+            start = runEnds[b];
         }
-        return true;
     }
 
     /** The running sum of joint d through tick t (t at least sumBase - 1); past the plan's end, its last position held. */
-    private double sumThrough(long t, int d, int endSlot) {
+    private double sumThrough(long t, int d, int endSlot, double endPosition) {
         if (t < sumBase) {
             return 0.0;
         }
         if (t <= planEnd) {
             return runningSum[(int) (t & mask) * dims + d];
         }
-        return runningSum[endSlot * dims + d] + (t - planEnd) * point[d];
+        return runningSum[endSlot * dims + d] + (t - planEnd) * endPosition;
     }
 
     private boolean hasPlan(long tick) {

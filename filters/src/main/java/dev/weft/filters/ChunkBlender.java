@@ -137,6 +137,15 @@ public interface ChunkBlender {
     boolean previewMeans(long tick, int[] runEnds, double[] out);
 
     /**
+     * As {@link #previewMeans(long, int[], double[])} for one dimension alone: its run means in
+     * {@code out[0 .. runEnds.length)}, the same doubles. O(runs).
+     *
+     * @param dimension {@code 0 ≤ dimension < dimensions()}
+     * @throws IllegalArgumentException as the all-dimensions form, or if {@code dimension} is out of range
+     */
+    boolean previewMeans(long tick, int[] runEnds, int dimension, double[] out);
+
+    /**
      * How many consecutive ticks, starting at and including {@code tick}, the plan covers. O(1);
      * allocation-free; control-loop thread only.
      *

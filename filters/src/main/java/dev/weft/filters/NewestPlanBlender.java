@@ -43,6 +43,11 @@ abstract class NewestPlanBlender extends AbstractChunkBlender {
     }
 
     @Override
+    final double readPosition(int slot, int dimension) {
+        return positions[slot * dims + dimension];
+    }
+
+    @Override
     final void readState(int slot, double[] position, double[] velocity, double[] acceleration) {
         int base = slot * dims;
         System.arraycopy(positions, base, position, 0, dims);

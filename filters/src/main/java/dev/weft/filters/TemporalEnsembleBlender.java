@@ -311,6 +311,11 @@ public final class TemporalEnsembleBlender extends AbstractChunkBlender {
     }
 
     @Override
+    double readPosition(int slot, int dimension) {
+        return weightedSum[slot * dims + dimension] / weightSum[slot];
+    }
+
+    @Override
     void readState(int slot, double[] position, double[] velocity, double[] acceleration) {
         int base = slot * dims;
         double total = weightSum[slot];

@@ -54,7 +54,7 @@ class AllocationTest {
                         sink += b.accept(chunk, 16, tick - 3, tick);
                     }
                     if (b.stateAt(tick, out, velocity, acceleration) && b.actionAt(tick, out)
-                            && b.previewMeans(tick, runEnds, preview)) {
+                            && b.previewMeans(tick, runEnds, preview) && b.previewMeans(tick, runEnds, 3, preview)) {
                         sink += b.ticksRemaining(tick);
                         for (Smoother s : smoothers) {
                             s.apply(out, out);

@@ -420,6 +420,12 @@ class ChunkBlenderContractTest {
             }
             long end = now + b.ticksRemaining(now) - 1;
             assertThat(b.actionAt(end, last)).isTrue();
+            double[] one = new double[ends.length];
+            for (int d = 0; d < D; d++) {
+                // one dimension alone: the same doubles as the all-dimensions form
+                assertThat(b.previewMeans(now, ends, d, one)).isTrue();
+                assertThat(one).containsExactly(java.util.Arrays.copyOfRange(out, d * ends.length, (d + 1) * ends.length));
+            }
             for (int d = 0; d < D; d++) {
                 for (int r = 0, from = 0; r < ends.length; from = ends[r], r++) {
                     double sum = 0;
@@ -453,5 +459,9 @@ class ChunkBlenderContractTest {
                 .isInstanceOf(IllegalArgumentException.class).hasMessageContaining("at run 0");
         assertThatThrownBy(() -> b.previewMeans(0, new int[] {1, 3}, new double[D]))
                 .isInstanceOf(IllegalArgumentException.class).hasMessageContaining("at least " + 2 * D);
+        assertThatThrownBy(() -> b.previewMeans(0, new int[] {1, 3}, D, new double[2]))
+                .isInstanceOf(IllegalArgumentException.class).hasMessageContaining("dimension must be in [0, " + D + ")");
+        assertThatThrownBy(() -> b.previewMeans(0, new int[] {1, 3}, 0, new double[1]))
+                .isInstanceOf(IllegalArgumentException.class).hasMessageContaining("at least 2");
     }
 }

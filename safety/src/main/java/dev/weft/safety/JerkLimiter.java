@@ -42,6 +42,17 @@ package dev.weft.safety;
  * lately been followable, toward its position alone otherwise. For a constant target this is the
  * double-S law.
  *
+ * <p><b>The receding-horizon law</b> leads instead, once a loop passes the plan's preview ({@link
+ * #apply(double[], double[], double[], PlanPreview, double[])}: the plan's mean over each of
+ * {@link #previewRuns()} runs of ticks ahead, 0.4 s in all), while the plan, at this tick or in the
+ * preview, is beyond 0.9 of a bound and for the horizon's length after: model predictive control
+ * with move blocking (Maciejowski, <i>Predictive Control with Constraints</i>, 2002): the jerk held
+ * over each run, the least-squares fit of the command's run means to the plan's with the jerk priced
+ * in and boxed to its bound, solved by a primal active set method (the strategy of Stark and
+ * Parker's bounded-variable least squares, Computational Statistics 10, 1995) with exterior
+ * penalties on the accelerations and velocities at the runs' ends; its first jerk, through the
+ * shield. See {@code PreviewGains}.
+ *
  * <h2>What was changed for the discrete-time bounds</h2>
  * <ul>
  *   <li>The published filters bound the continuous derivatives. The emitted command is a sample of
@@ -96,12 +107,14 @@ public final class JerkLimiter {
     private final double dt;
     private final AxisFilter[] axes;
     private final int[] jointFlags;
+    private final ArrayPreview arrayPreview;
 
     private JerkLimiter(JointLimits limits, double dt, AxisFilter[] axes) {
         this.limits = limits;
         this.dt = dt;
         this.axes = axes;
         this.jointFlags = new int[axes.length];
+        this.arrayPreview = new ArrayPreview(axes[0].gains.runs);
     }
 
     /**
@@ -277,21 +290,10 @@ public final class JerkLimiter {
      * @return OR of the per-joint flags of this tick
      */
     public int apply(double[] target, double[] velocity, double[] acceleration, double[] command) {
-        checkLength("target", target);
-        checkLength("velocity", velocity);
-        checkLength("acceleration", acceleration);
-        checkLength("command", command);
-        int all = 0;
-        for (int i = 0; i < axes.length; i++) {
-            int f = axes[i].follow(target[i], velocity[i], acceleration[i]);
-            jointFlags[i] = f;
-            all |= f;
-            command[i] = axes[i].q;
-        }
-        return all;
+        return apply(target, velocity, acceleration, (PlanPreview) null, command);
     }
 
-    /** Number of runs of the preview {@link #apply(double[], double[], double[], double[], double[])} takes per joint. */
+    /** Number of runs of the preview {@link #apply(double[], double[], double[], PlanPreview, double[])} takes per joint. */
     public int previewRuns() {
         return axes[0].gains.runs;
     }
@@ -305,32 +307,41 @@ public final class JerkLimiter {
     }
 
     /**
-     * As {@link #apply(double[], double[], double[], double[])}, with the plan's preview: per joint
-     * {@code d}, the mean plan position over each of the {@link #previewRuns()} runs of ticks ahead
-     * that {@link #previewRunEnds()} gives, the first starting at this tick, at
-     * {@code preview[d * previewRuns() + b]}. While the plan, now or in the preview, is beyond 0.9 of
-     * a bound, the receding-horizon law chooses the jerk; {@code preview == null} is the same as the
-     * four-argument form.
+     * As {@link #apply(double[], double[], double[], PlanPreview, double[])}, with the preview as an
+     * array: joint {@code d}'s run {@code b} at {@code preview[d * previewRuns() + b]}.
      *
-     * @param preview read only, length {@code joints() * previewRuns()}, or null; any values (a
-     *                non-finite mean leaves that joint on its other laws)
+     * @param preview read only, length {@code joints() * previewRuns()}, or null (the same as the
+     *                four-argument form); any values (a non-finite mean leaves that joint on its
+     *                other laws)
      */
     public int apply(double[] target, double[] velocity, double[] acceleration, double[] preview, double[] command) {
         if (preview == null) {
             return apply(target, velocity, acceleration, command);
         }
+        if (preview.length != axes.length * previewRuns()) {
+            throw new IllegalArgumentException("jerk limiter: preview must have length " + axes.length * previewRuns()
+                    + ", was " + preview.length);
+        }
+        arrayPreview.means = preview;
+        return apply(target, velocity, acceleration, arrayPreview, command);
+    }
+
+    /**
+     * As {@link #apply(double[], double[], double[], double[])}, with the plan's preview: per joint,
+     * the mean plan position over each of the {@link #previewRuns()} runs of ticks ahead that
+     * {@link #previewRunEnds()} gives, the first starting at this tick. While the plan, now or in the
+     * preview, is beyond 0.9 of a bound, the receding-horizon law chooses the jerk; a joint that holds
+     * a plan at rest does not ask for its preview. {@code preview == null} is the same as the
+     * four-argument form.
+     */
+    public int apply(double[] target, double[] velocity, double[] acceleration, PlanPreview preview, double[] command) {
         checkLength("target", target);
         checkLength("velocity", velocity);
         checkLength("acceleration", acceleration);
         checkLength("command", command);
-        int blocks = previewRuns();
-        if (preview.length != axes.length * blocks) {
-            throw new IllegalArgumentException("jerk limiter: preview must have length " + axes.length * blocks
-                    + ", was " + preview.length);
-        }
         int all = 0;
         for (int i = 0; i < axes.length; i++) {
-            int f = axes[i].follow(target[i], velocity[i], acceleration[i], preview, i * blocks);
+            int f = axes[i].follow(target[i], velocity[i], acceleration[i], preview, i);
             jointFlags[i] = f;
             all |= f;
             command[i] = axes[i].q;

@@ -59,7 +59,11 @@ final class PreviewGains {
     private final double[] mu;
     private final double[] x;
     private final int[] state;
-    private final double[][] chol;
+    private final double[][] factor;
+    /** The Cholesky factor of the Hessian itself, every run free. */
+    private final double[][] wholeFactor;
+    /** Whether the current solve carries a penalty. */
+    private boolean penalties;
     private final double[] rhs;
     private final int[] free;
     private final boolean[] penalised;
@@ -68,9 +72,14 @@ final class PreviewGains {
     /** Whether the last solve put the first run's jerk at its bound. */
     boolean firstAtBound;
 
-    PreviewGains(double dt, int[] runTicks, double jerkTime) {
-        if (runTicks.length < 1 || !(dt > 0.0) || !(jerkTime > 0.0)) {
-            throw new IllegalArgumentException("preview: " + runTicks.length + " runs, dt " + dt + ", jerk time " + jerkTime);
+    /**
+     * @param runTicks  the runs' lengths in ticks, each at least 1
+     * @param jerkPrice the position error a jerk of 1 is worth: the cost's {@code tau^3}, so its
+     *                  jerk weight is {@code jerkPrice^2}
+     */
+    PreviewGains(double dt, int[] runTicks, double jerkPrice) {
+        if (runTicks.length < 1 || !(dt > 0.0) || !(jerkPrice > 0.0)) {
+            throw new IllegalArgumentException("preview: " + runTicks.length + " runs, dt " + dt + ", jerk price " + jerkPrice);
         }
         int n = runTicks.length;
         this.runs = n;
@@ -131,7 +140,9 @@ final class PreviewGains {
             f[k][1] += t / runTicks[k];
             f[k][2] += 0.5 * t * t / runTicks[k];
         }
-        double lambda = Math.pow(jerkTime / unit, 6);
+        // tau^6 in the internal time unit, by products alone (a NumPy mirror gets the same double)
+        double cube = jerkPrice / (unit * unit * unit);
+        double lambda = cube * cube;
         this.hess = new double[n][n];
         for (int r = 0; r < n; r++) {
             for (int c = 0; c < n; c++) {
@@ -148,7 +159,15 @@ final class PreviewGains {
         this.mu = new double[n];
         this.x = new double[n];
         this.state = new int[n];
-        this.chol = new double[n][n];
+        this.factor = new double[n][n];
+        this.wholeFactor = new double[n][n];
+        int[] all = new int[n];
+        for (int j = 0; j < n; j++) {
+            all[j] = j;
+        }
+        for (int r = 0; r < n; r++) {
+            factorRow(hess, all, wholeFactor, r);
+        }
         this.rhs = new double[n];
         this.free = new int[n];
         this.penalised = new boolean[2 * n];
@@ -184,6 +203,7 @@ final class PreviewGains {
                     b[j] += gk[j] * wr;
                 }
             }
+            penalties = round > 0;
             for (int k = 0; k < 2 * n; k++) {
                 if (!penalised[k]) {
                     continue;
@@ -237,16 +257,17 @@ final class PreviewGains {
     /**
      * The box-constrained minimiser of {@code u' hmod u / 2 - b' u}, |u| <= lim, by a primal active
      * set method (the strategy of Stark and Parker's bounded-variable least squares, Computational
-     * Statistics 10, 1995): from u = 0, solve on the free runs; step toward that solution until a
-     * run meets its bound and fix it there; once the solution is inside the box, free the fixed run
+     * Statistics 10, 1995): from the last solve's fixed runs at their bounds and the others at 0,
+     * solve on the free runs; step toward that solution until a run meets its bound and fix it there; once the solution is inside the box, free the fixed run
      * whose multiplier has the wrong sign most. The cost falls at every step. Leaves the result in
      * {@code u}; stops after {@link #MAX_ITERATIONS} steps with the feasible point reached.
      */
     private void solveBox(double lim) {
         int n = runs;
+        // warm start: the runs fixed at a bound by the last solve (this tick's previous round, or
+        // the tick before) start fixed there, the others at 0, a point inside the box
         for (int j = 0; j < n; j++) {
-            state[j] = 0;
-            x[j] = 0.0;
+            x[j] = state[j] * lim;
         }
         for (int it = 0; it < MAX_ITERATIONS; it++) {
             iterations++;
@@ -305,6 +326,18 @@ final class PreviewGains {
         }
     }
 
+    /** Row r of the Cholesky factor of {@code m} restricted to the runs {@code idx[0..]}. */
+    private static void factorRow(double[][] m, int[] idx, double[][] chol, int r) {
+        int jr = idx[r];
+        for (int c = 0; c <= r; c++) {
+            double sum = m[jr][idx[c]];
+            for (int k = 0; k < c; k++) {
+                sum -= chol[r][k] * chol[c][k];
+            }
+            chol[r][c] = c == r ? Math.sqrt(sum) : sum / chol[c][c];
+        }
+    }
+
     /** Fixes the active runs at their bound, solves for the free ones (Cholesky), and sets the multipliers. */
     private void solveFree(double lim) {
         int n = runs;
@@ -316,6 +349,10 @@ final class PreviewGains {
                 u[j] = state[j] * lim;
             }
         }
+        // with every run free and no penalty the factor is the one formed at construction (the same
+        // loop, so the same doubles)
+        boolean whole = m == n && !penalties;
+        double[][] chol = whole ? wholeFactor : factor;
         for (int r = 0; r < m; r++) {
             int jr = free[r];
             double s = b[jr];
@@ -325,12 +362,8 @@ final class PreviewGains {
                 }
             }
             rhs[r] = s;
-            for (int c = 0; c <= r; c++) {
-                double sum = hmod[jr][free[c]];
-                for (int k = 0; k < c; k++) {
-                    sum -= chol[r][k] * chol[c][k];
-                }
-                chol[r][c] = c == r ? Math.sqrt(sum) : sum / chol[c][c];
+            if (!whole) {
+                factorRow(hmod, free, chol, r);
             }
         }
         for (int r = 0; r < m; r++) {

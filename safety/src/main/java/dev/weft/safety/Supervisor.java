@@ -41,6 +41,7 @@ package dev.weft.safety;
 public final class Supervisor {
 
     private final JerkLimiter main;
+    private final ArrayPreview arrayPreview;
     private final JerkLimiter soft;
     private final StopCategory category;
     private final double[] maxArmingOffset;
@@ -73,6 +74,7 @@ public final class Supervisor {
 
     private Supervisor(Builder b, double[] initialPose) {
         this.main = JerkLimiter.create(b.limits, b.period);
+        this.arrayPreview = new ArrayPreview(main.previewRuns());
         this.soft = JerkLimiter.create(b.limits.scaled(b.armVelocity, b.armAcceleration, b.armJerk), b.period);
         this.category = b.category;
         this.joints = b.limits.count();
@@ -135,7 +137,7 @@ public final class Supervisor {
         return powerRemovalRequested;
     }
 
-    /** Runs of the preview {@link #step(long, long, double[], double[], double[], double[], int, double[])} takes per joint. */
+    /** Runs of the preview {@link #step(long, long, double[], double[], double[], PlanPreview, int, double[])} takes per joint. */
     public int previewRuns() {
         return main.previewRuns();
     }
@@ -282,12 +284,29 @@ public final class Supervisor {
      */
     public SupervisorState step(long tick, long timeNanos, double[] target, double[] targetVelocity,
             double[] targetAcceleration, int watchdogCode, double[] command) {
-        return step(tick, timeNanos, target, targetVelocity, targetAcceleration, null, watchdogCode, command);
+        return step(tick, timeNanos, target, targetVelocity, targetAcceleration, (PlanPreview) null, watchdogCode,
+                command);
+    }
+
+    /**
+     * As {@link #step(long, long, double[], double[], double[], PlanPreview, int, double[])}, with the
+     * preview as an array (layout of {@link JerkLimiter#apply(double[], double[], double[], double[], double[])}),
+     * or null.
+     */
+    public SupervisorState step(long tick, long timeNanos, double[] target, double[] targetVelocity,
+            double[] targetAcceleration, double[] preview, int watchdogCode, double[] command) {
+        if (preview != null && preview.length != joints * main.previewRuns()) {
+            throw new IllegalArgumentException("supervisor: preview must have length " + joints * main.previewRuns()
+                    + ", was " + preview.length);
+        }
+        arrayPreview.means = preview;
+        return step(tick, timeNanos, target, targetVelocity, targetAcceleration, preview == null ? null : arrayPreview,
+                watchdogCode, command);
     }
 
     /**
      * Produces the command of one tick, with the plan's preview for the receding-horizon law of the
-     * full-limit limiter once ARMED (see {@link JerkLimiter#apply(double[], double[], double[], double[], double[])}).
+     * full-limit limiter once ARMED (see {@link JerkLimiter#apply(double[], double[], double[], PlanPreview, double[])}).
      * While arming, neither the ramp nor the catch-up after it uses it: the receding-horizon law
      * closing a gap of tenths of a radian at full speed arrived with the speed still off the plan's,
      * and overshot by up to 70 mrad on the demo.
@@ -295,7 +314,7 @@ public final class Supervisor {
      * @param preview the plan's run means ahead, layout and length as the limiter asks, or null
      */
     public SupervisorState step(long tick, long timeNanos, double[] target, double[] targetVelocity,
-            double[] targetAcceleration, double[] preview, int watchdogCode, double[] command) {
+            double[] targetAcceleration, PlanPreview preview, int watchdogCode, double[] command) {
         checkLength("target", target);
         checkLength("target velocity", targetVelocity);
         checkLength("target acceleration", targetAcceleration);
@@ -385,7 +404,8 @@ public final class Supervisor {
             goalVelocity = rampVelocity;
             goalAcceleration = rampAcceleration;
         }
-        if (!applyOrStop(limiter, tick, timeNanos, goal, goalVelocity, goalAcceleration, null, command, !catchingUp)) {
+        if (!applyOrStop(limiter, tick, timeNanos, goal, goalVelocity, goalAcceleration, (PlanPreview) null, command,
+                !catchingUp)) {
             return;
         }
         if (armingTicks >= armingRampTicks && withinTolerance(limiter, target)) {
@@ -409,7 +429,7 @@ public final class Supervisor {
      * @return whether the tick went on without a fault
      */
     private boolean applyOrStop(JerkLimiter limiter, long tick, long timeNanos, double[] goal, double[] goalVelocity,
-            double[] goalAcceleration, double[] preview, double[] command, boolean fromArming) {
+            double[] goalAcceleration, PlanPreview preview, double[] command, boolean fromArming) {
         limiter.saveState(saved);
         lastFlags = limiter.apply(goal, goalVelocity, goalAcceleration, preview, command);
         if ((lastFlags & JerkLimiter.FAULT_FLAGS) == 0) {

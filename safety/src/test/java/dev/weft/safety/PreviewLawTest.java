@@ -24,7 +24,7 @@ class PreviewLawTest {
     void theFirstJerkIsTheMinimiserOfTheBoxConstrainedProgram() {
         int[] runs = AxisFilter.previewRuns(DT);
         double tau = Math.cbrt(AxisFilter.PREVIEW_JERK_PRICE / JERK);
-        PreviewGains gains = new PreviewGains(DT, runs, tau);
+        PreviewGains gains = new PreviewGains(DT, runs, AxisFilter.PREVIEW_JERK_PRICE / JERK);
         Reference ref = new Reference(runs, tau);
         SplittableRandom rng = new SplittableRandom(42);
         int atBound = 0;
@@ -67,7 +67,7 @@ class PreviewLawTest {
     @Test
     void onAPlanThatRestsAtTheCommandTheLawAsksForNoJerk() {
         int[] runs = AxisFilter.previewRuns(DT);
-        PreviewGains gains = new PreviewGains(DT, runs, Math.cbrt(AxisFilter.PREVIEW_JERK_PRICE / JERK));
+        PreviewGains gains = new PreviewGains(DT, runs, AxisFilter.PREVIEW_JERK_PRICE / JERK);
         double[] preview = new double[runs.length];
         java.util.Arrays.fill(preview, 0.7);
         assertThat(gains.boundedJerk(0.7, 0, 0, preview, 0, JERK, 5, 1.4)).isCloseTo(0.0,

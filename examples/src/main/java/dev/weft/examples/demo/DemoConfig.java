@@ -42,9 +42,10 @@ public final class DemoConfig {
     public static final String INTERPOLATION = "cubic_spline";
 
     /**
-     * {@code gates.rms_error_max}, rad, every joint: the clean episodes' dry runs reach 0.041 at
-     * most (dip-03) and the fault episode's armed part 0.068; holding the pose would give
-     * 0.10 on slew. 0.08 leaves room for a slower machine whose measured latency models as two ticks.
+     * {@code gates.rms_error_max}, rad, every joint: the clean episodes' dry runs reach 0.017 at
+     * most (dip-03) and the fault episode's armed part 0.021 with the receding-horizon limiter (0.041
+     * and 0.068 with the law before it); holding the pose would give 0.10 on slew. 0.08 leaves room
+     * for a slower machine whose measured latency models as two ticks.
      */
     public static final double RMS_ERROR_MAX = 0.08;
 
@@ -113,7 +114,7 @@ public final class DemoConfig {
                   observation: %s
                   action: %s
                 gates:
-                  rms_error_max: %s  # rad, every joint; the clean episodes reach 0.041 (holding the pose: 0.1)
+                  rms_error_max: %s  # rad, every joint; the clean episodes reach 0.017 (holding the pose: 0.1)
                   stops_max: 0  # dip-05-glitch is judged as meant to stop instead
                   starved_ticks_max: 0
                 """.formatted(num(DipCell.CONTROL_PERIOD), num(ChunkRegression.POLICY_STEP),

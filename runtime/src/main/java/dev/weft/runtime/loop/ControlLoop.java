@@ -8,6 +8,7 @@ import dev.weft.runtime.source.ObservationSource;
 import dev.weft.runtime.telemetry.CsvRecorder;
 import dev.weft.runtime.telemetry.TelemetryRow;
 import dev.weft.safety.Cause;
+import dev.weft.safety.PlanPreview;
 import dev.weft.safety.StopCategory;
 import dev.weft.safety.Supervisor;
 import dev.weft.safety.SupervisorState;
@@ -88,9 +89,8 @@ public final class ControlLoop implements AutoCloseable {
     private final double[] targetVelocity;
     /** The plan's acceleration at this tick, units/s^2. */
     private final double[] targetAcceleration;
-    /** The plan's run means ahead for the limiter's receding-horizon law (null with a smoother: the preview would be unsmoothed). */
-    private double[] preview;
-    private int[] previewRunEnds;
+    /** The plan ahead for the limiter's receding-horizon law (not with a smoother: the preview would be unsmoothed). */
+    private final BlenderPreview preview = new BlenderPreview();
     private boolean previewed;
     private final Smoother velocitySmoother;
     private final Smoother accelerationSmoother;
@@ -246,8 +246,7 @@ public final class ControlLoop implements AutoCloseable {
             measured[i] = observation[positionIndex[i]];
         }
         supervisor = supervisorFactory.apply(measured.clone());
-        preview = smoother == null ? new double[joints * supervisor.previewRuns()] : null;
-        previewRunEnds = supervisor.previewRunEnds();
+        preview.runEnds = supervisor.previewRunEnds();
         System.arraycopy(measured, 0, command, 0, joints);
         System.arraycopy(measured, 0, previousCommand, 0, joints);
         autoArmPending = settings.armWhenPlanned();
@@ -325,8 +324,8 @@ public final class ControlLoop implements AutoCloseable {
         // 4 the plan's state at this tick, 5 smoothing
         boolean planned = blender.stateAt(n, target, targetVelocity, targetAcceleration);
         long remaining = blender.ticksRemaining(n);
-        previewed = planned && preview != null
-                && blender.previewMeans(n, previewRunEnds, preview);
+        previewed = planned && smoother == null;
+        preview.tick = n;
         if (!planned) {
             for (int i = 0; i < joints; i++) {
                 target[i] = Double.NaN;
@@ -366,7 +365,7 @@ public final class ControlLoop implements AutoCloseable {
         // a plan the target is NaN, which the supervisor treats as a fault while moving and ignores
         // while holding, so starvation stops the robot even with PLAN_STARVED switched off.
         SupervisorState s = supervisor.step(n, deadline - t0, target, targetVelocity, targetAcceleration,
-                previewed ? preview : null, code, command);
+                previewed ? preview : (PlanPreview) null, code, command);
 
         // 8 emit (invariant 2: nothing non-finite reaches the port)
         frame.tick = n;
@@ -638,5 +637,16 @@ public final class ControlLoop implements AutoCloseable {
             Thread.currentThread().interrupt();
         }
         worker.close();
+    }
+
+    /** The blender's plan ahead of the current tick, read per joint when the limiter asks for it. */
+    private final class BlenderPreview implements PlanPreview {
+        long tick;
+        int[] runEnds;
+
+        @Override
+        public boolean runMeans(int joint, double[] out) {
+            return blender.previewMeans(tick, runEnds, joint, out);
+        }
     }
 }
