@@ -26,6 +26,17 @@ of its runTick, and the frame of step 8):
      that keeps every bound;
   4. the command frame: positions and the finite-difference velocities, with the finite check.
 
+With "preview": true in the export (TickExport ... PREVIEW, TickWorkload.previewTick: the armed
+loop's tick), the plan's preview too: the blender's running sums of its positions, formed after
+each accepted chunk (np.cumsum adds in tick order, as Java does), give the mean over each run
+ahead (AbstractChunkBlender.previewMeans); the limiter latches the receding-horizon law for the
+horizon's length wherever the plan, now or in the preview (divided differences of the run means),
+is beyond 0.9 of a bound, and takes the first jerk of its least-squares plan
+(dev.weft.safety.PreviewGains: move-blocked runs, the jerk in a box solved by a primal active set
+method warm-started from the last solve, penalties on the accelerations and velocities at the
+runs' ends) through the linear zone's shield. That part is scalar Python per joint, in Java's
+order of operations; the run lengths are computed here and checked equal to the export's.
+
 It is written the NumPy way where the branching allows it: every joint at once, branches as
 masks, each bisection over all joints that need it together. The per-joint arithmetic is in the
 same order as weft's Java, and NumPy's element-wise float64 operations round as Java's do, so the
@@ -38,7 +49,9 @@ What the check reaches: bench/compare checks the OSCILLATING and HOLDING exports
 minimum-time law with its 24-step bisection, the linear zone and its shield's bisection, the
 plan's derivatives clamped and fed forward at a falling share; the hold) and a CATCHING_UP
 export (a plan inside the bounds: the minimum-time law in the frame of the plan's rate, the
-linear zone with the plan fed forward in full and the drift estimate). Ported but reached by none
+linear zone with the plan fed forward in full and the drift estimate), and the PREVIEW exports of
+OSCILLATING and CATCHING_UP (the receding-horizon law with and without its shield's bisection,
+penalties and active bounds among its solves, beside the minimum-time law). Ported but reached by none
 of them, so unchecked: the non-finite-plan stop, NOT_VIABLE, the position clamp, and the
 "followable" memory falling to 0 (its threshold is never crossed: changing FOLLOW_DEFICIT changes
 no output of these exports).
@@ -85,13 +98,22 @@ ENTRY_SHARE = 1.0
 EXIT_SHARE = 6.0
 FEED_FORWARD_FULL = 0.9
 FOLLOW_DEFICIT = 0.05
+# AxisFilter and PreviewGains constants of the receding-horizon law
+PREVIEW_BLOCKS = 10
+PREVIEW_HORIZON = 0.4
+PREVIEW_JERK_PRICE = 0.00384
+PREVIEW_GROWTH = 1.5
+PENALTY = 100.0
+OUTER = 3
+MAX_ITERATIONS = 48
 # AbstractChunkBlender constants
 TICK_EPSILON = 1e-9
 NO_TICK = -(2 ** 63)
 
 # the laws the limiter can take for a joint in a tick (counted, not used by the algorithm)
 LAWS = ("hold", "linear zone", "linear zone, shield bisection", "minimum time, full jerk",
-        "minimum time, bisection", "minimum time, at rest", "stop (non-finite plan)", "not viable")
+        "minimum time, bisection", "minimum time, at rest", "stop (non-finite plan)", "not viable",
+        "receding horizon", "receding horizon, shield bisection")
 
 
 # ---------------------------------------------------------------------------------------- plan
@@ -178,6 +200,8 @@ class EnsemblePlan:
         self.slot_tick = np.full(capacity, NO_TICK, dtype=np.int64)
         self.last_now = NO_TICK
         self.plan_end = NO_TICK
+        self.running = np.zeros((capacity, joints))  # per slot: the sum of the plan's positions from sum_base
+        self.sum_base = NO_TICK
 
     def accept(self, chunk, origin, now):
         """chunk: (K, D), valid; merges its ticks now .. origin + (K-1) r (the stale prefix dropped)."""
@@ -257,7 +281,39 @@ class EnsemblePlan:
             self.sum_a[hs] += w_bend[:, None] * ph + 2.0 * w_rate[:, None] * vh + w[:, None] * a[had]
         self.slot_tick[slots] = ticks
         self.plan_end = max(self.plan_end, end)
+        self.form_running_sums(now)
         return int(end - now + 1)
+
+    def form_running_sums(self, start):
+        """AbstractChunkBlender.formRunningSums: running sums of the positions from start to the plan's end."""
+        self.sum_base = start
+        ticks = np.arange(start, self.plan_end + 1, dtype=np.int64)
+        slots = ticks & self.mask
+        positions = self.sum_p[slots] / self.w[slots][:, None]
+        self.running[slots] = np.cumsum(positions, axis=0)  # add.accumulate: in tick order, as Java adds
+
+    def sum_through(self, t, end_position):
+        if t < self.sum_base:
+            return np.zeros(end_position.shape[0])
+        if t <= self.plan_end:
+            return self.running[t & self.mask]
+        return self.running[self.plan_end & self.mask] + float(t - self.plan_end) * end_position
+
+    def preview_means(self, tick, run_ends):
+        """AbstractChunkBlender.previewMeans: (D, runs) run means ahead of tick, the last position held."""
+        if not self.covers(tick):
+            return None
+        end_slot = self.plan_end & self.mask
+        end_position = self.sum_p[end_slot] / self.w[end_slot]
+        out = np.empty((end_position.shape[0], len(run_ends)))
+        before = self.sum_through(tick - 1, end_position)
+        start = 0
+        for b, e in enumerate(run_ends):
+            after = self.sum_through(tick + e - 1, end_position)
+            out[:, b] = (after - before) / float(e - start)
+            before = after
+            start = e
+        return out
 
     def covers(self, tick):
         return (self.plan_end != NO_TICK and self.last_now <= tick <= self.plan_end
@@ -324,6 +380,256 @@ class Extremes:
         self.a_min, self.a_max = a, a
 
 
+def java_round(x):
+    """Java's Math.round for a double: the nearest integer, halves up."""
+    return int(math.floor(x + 0.5))
+
+
+def preview_runs(dt):
+    """AxisFilter.previewRuns: the runs' lengths in ticks."""
+    total = max(float(PREVIEW_BLOCKS), PREVIEW_HORIZON / dt)
+    r = PREVIEW_GROWTH
+    first = total * (r - 1.0) / (r ** PREVIEW_BLOCKS - 1.0)
+    return [max(1, java_round(first * r ** b)) for b in range(PREVIEW_BLOCKS)]
+
+
+def factor_row(m, idx, chol, r):
+    """PreviewGains.factorRow: row r of the Cholesky factor of m restricted to idx."""
+    jr = idx[r]
+    row = chol[r]
+    for c in range(r + 1):
+        total = m[jr][idx[c]]
+        other = chol[c]
+        for k in range(c):
+            total -= row[k] * other[k]
+        row[c] = math.sqrt(total) if c == r else total / other[c]
+
+
+class PreviewGains:
+    """The receding-horizon law of one joint (dev.weft.safety.PreviewGains), in plain Python floats.
+
+    Scalar code, one joint at a time: the active-set method branches per joint and per iteration,
+    so there is nothing to vectorise, and Python's floats are IEEE doubles rounded as Java's are.
+    """
+
+    def __init__(self, dt, run_ticks, jerk_price):
+        n = len(run_ticks)
+        self.runs = n
+        self.run_ends = []
+        total = 0
+        for t in run_ticks:
+            total += t
+            self.run_ends.append(total)
+        self.horizon_ticks = total
+        self.centres = [0.5 * ((0 if j == 0 else self.run_ends[j - 1]) + self.run_ends[j] - 1) * dt for j in range(n)]
+        self.unit = total * dt / n
+        h = dt / self.unit
+        run_of = []
+        j = 0
+        for step in range(total):
+            if step >= self.run_ends[j]:
+                j += 1
+            run_of.append(j)
+        g = [[0.0] * n for _ in range(n)]
+        f = [[0.0] * 3 for _ in range(n)]
+        rate = [[0.0] * n for _ in range(2 * n)]
+        self.end_time = [self.run_ends[k] * h for k in range(n)]
+        self.weight = [float(run_ticks[k]) for k in range(n)]
+        for j in range(n):
+            p = vel = acc = 0.0
+            for step in range(total):
+                jerk = 1.0 if run_of[step] == j else 0.0
+                p += h * (vel + h * (0.5 * acc + h * jerk / 6.0))
+                vel += h * (acc + 0.5 * h * jerk)
+                acc += h * jerk
+                k = run_of[step]
+                g[k][j] += p / run_ticks[k]
+                if step + 1 == self.run_ends[k]:
+                    rate[k][j] = acc
+                    rate[n + k][j] = vel
+        for step in range(total):
+            t = (step + 1) * h
+            k = run_of[step]
+            f[k][0] += 1.0 / run_ticks[k]
+            f[k][1] += t / run_ticks[k]
+            f[k][2] += 0.5 * t * t / run_ticks[k]
+        cube = jerk_price / (self.unit * self.unit * self.unit)
+        lam = cube * cube
+        hess = [[0.0] * n for _ in range(n)]
+        for r in range(n):
+            for c in range(n):
+                total_rc = lam * self.weight[r] if r == c else 0.0
+                for k in range(n):
+                    total_rc += self.weight[k] * g[k][r] * g[k][c]
+                hess[r][c] = total_rc
+        self.g, self.f, self.rate, self.hess = g, f, rate, hess
+        self.whole_factor = [[0.0] * n for _ in range(n)]
+        for r in range(n):
+            factor_row(hess, list(range(n)), self.whole_factor, r)
+        self.factor = [[0.0] * n for _ in range(n)]
+        self.hmod = [row[:] for row in hess]
+        self.b = [0.0] * n
+        self.u = [0.0] * n
+        self.mu = [0.0] * n
+        self.x = [0.0] * n
+        self.state = [0] * n
+        self.rhs = [0.0] * n
+        self.free = [0] * n
+        self.penalised = [False] * (2 * n)
+        self.penalties = False
+        self.first_at_bound = False
+
+    def free_rate(self, k, vs, acs):
+        return acs if k < self.runs else vs + self.end_time[k - self.runs] * acs
+
+    def dot(self, row, y):
+        total = 0.0
+        for j in range(self.runs):
+            total += row[j] * y[j]
+        return total
+
+    def bounded_jerk(self, q, v, a, preview, j_max, a_max, v_max):
+        n = self.runs
+        u1 = self.unit
+        vs = v * u1
+        acs = a * u1 * u1
+        a_lim = a_max * u1 * u1
+        v_lim = v_max * u1
+        j_lim = j_max * u1 * u1 * u1
+        penalised = self.penalised
+        for k in range(2 * n):
+            penalised[k] = False
+        g, f, b, hmod, u = self.g, self.f, self.b, self.hmod, self.u
+        for rnd in range(OUTER + 1):
+            for r in range(n):
+                hmod[r][:] = self.hess[r]
+                b[r] = 0.0
+            for k in range(n):
+                res = preview[k] - (f[k][0] * q + f[k][1] * vs + f[k][2] * acs)
+                wr = self.weight[k] * res
+                gk = g[k]
+                for j in range(n):
+                    b[j] += gk[j] * wr
+            self.penalties = rnd > 0
+            for k in range(2 * n):
+                if not penalised[k]:
+                    continue
+                offset = self.free_rate(k, vs, acs)
+                lim = a_lim if k < n else v_lim
+                goal = lim if (offset + self.dot(self.rate[k], u)) > 0.0 else -lim
+                ck = self.rate[k]
+                for r in range(n):
+                    cr = ck[r]
+                    if cr == 0.0:
+                        continue
+                    b[r] += PENALTY * cr * (goal - offset)
+                    row = hmod[r]
+                    for c in range(n):
+                        row[c] += PENALTY * cr * ck[c]
+            self.solve_box(j_lim)
+            added = False
+            for k in range(2 * n):
+                x = self.free_rate(k, vs, acs) + self.dot(self.rate[k], u)
+                lim = a_lim if k < n else v_lim
+                if not penalised[k] and (x > lim or x < -lim):
+                    penalised[k] = True
+                    added = True
+            if not added:
+                break
+        first = u[0]
+        self.first_at_bound = first >= j_lim or first <= -j_lim
+        if self.first_at_bound:
+            return j_max if first > 0.0 else -j_max
+        return first / (u1 * u1 * u1)
+
+    def solve_box(self, lim):
+        n = self.runs
+        state, x, u, mu = self.state, self.x, self.u, self.mu
+        for j in range(n):
+            x[j] = state[j] * lim
+        for _ in range(MAX_ITERATIONS):
+            self.solve_free(lim)
+            step = 1.0
+            hit = -1
+            for j in range(n):
+                if state[j] != 0:
+                    continue
+                to = u[j]
+                if to > lim or to < -lim:
+                    bound = lim if to > 0.0 else -lim
+                    sj = (bound - x[j]) / (to - x[j])
+                    if sj < step:
+                        step = sj
+                        hit = j
+            if hit >= 0:
+                for j in range(n):
+                    if state[j] == 0:
+                        x[j] += step * (u[j] - x[j])
+                state[hit] = 1 if u[hit] > 0.0 else -1
+                x[hit] = state[hit] * lim
+                continue
+            for j in range(n):
+                x[j] = u[j]
+            release = -1
+            worst = 0.0
+            for j in range(n):
+                if state[j] == 0:
+                    continue
+                wrong = -state[j] * mu[j]
+                if wrong > worst:
+                    worst = wrong
+                    release = j
+            if release < 0:
+                break
+            state[release] = 0
+        for j in range(n):
+            u[j] = x[j]
+
+    def solve_free(self, lim):
+        n = self.runs
+        state, u, b, hmod, rhs, free, mu = self.state, self.u, self.b, self.hmod, self.rhs, self.free, self.mu
+        m = 0
+        for j in range(n):
+            if state[j] == 0:
+                free[m] = j
+                m += 1
+            else:
+                u[j] = state[j] * lim
+        whole = m == n and not self.penalties
+        chol = self.whole_factor if whole else self.factor
+        for r in range(m):
+            jr = free[r]
+            total = b[jr]
+            row = hmod[jr]
+            for j in range(n):
+                if state[j] != 0:
+                    total -= row[j] * u[j]
+            rhs[r] = total
+            if not whole:
+                factor_row(hmod, free, chol, r)
+        for r in range(m):
+            total = rhs[r]
+            for k in range(r):
+                total -= chol[r][k] * rhs[k]
+            rhs[r] = total / chol[r][r]
+        for r in range(m - 1, -1, -1):
+            total = rhs[r]
+            for k in range(r + 1, m):
+                total -= chol[k][r] * rhs[k]
+            rhs[r] = total / chol[r][r]
+        for r in range(m):
+            u[free[r]] = rhs[r]
+        for j in range(n):
+            if state[j] == 0:
+                mu[j] = 0.0
+            else:
+                total = b[j]
+                row = hmod[j]
+                for k in range(n):
+                    total -= row[k] * u[k]
+                mu[j] = total
+
+
 class JerkLimit:
     """The jerk-limited limiter, all joints at once (JerkLimiter and AxisFilter)."""
 
@@ -380,6 +686,13 @@ class JerkLimit:
         self.law = np.zeros(n, dtype=np.int64)
         self.base = None
         self.frame_rate = np.zeros(n)
+        # the receding-horizon law, per joint
+        runs = preview_runs(dt)
+        self.gains = [PreviewGains(dt, runs, PREVIEW_JERK_PRICE / float(self.j_use[i])) for i in range(n)]
+        self.run_ends = self.gains[0].run_ends
+        self.centres = np.array(self.gains[0].centres)
+        self.horizon_ticks = self.gains[0].horizon_ticks
+        self.preview_latch = np.zeros(n, dtype=np.int64)
 
 
     def recovered(self, x):
@@ -401,6 +714,7 @@ class JerkLimit:
         return np.where(asks & (limit < share), limit, share), np.where(asks, 0, held)
 
     def forget_plan(self, mask):
+        self.preview_latch = np.where(mask, 0, self.preview_latch)
         self.have_plan &= ~mask
         self.tracking &= ~mask
         self.plan_rate = np.where(mask, 0.0, self.plan_rate)
@@ -540,8 +854,24 @@ class JerkLimit:
             hi_code = np.where(ok, hi_code, c)
         return lo, hi_code
 
-    def follow(self, p, pv, pa):
-        """One tick along a plan (position, velocity /s, acceleration /s^2 per joint); the flags per joint."""
+    def preview_beyond(self, preview):
+        """AxisFilter.previewBeyond per joint: divided differences of the run means beyond 0.9 of V or A."""
+        c = self.centres
+        v_lim = FEED_FORWARD_FULL * self.v_strict
+        a_lim = FEED_FORWARD_FULL * self.a_strict / 2.0
+        beyond = np.zeros(preview.shape[0], dtype=bool)
+        d1_prev = None
+        for b in range(1, preview.shape[1]):
+            d1 = (preview[:, b] - preview[:, b - 1]) / (c[b] - c[b - 1])
+            beyond |= np.abs(d1) > v_lim
+            if b >= 2:
+                beyond |= np.abs((d1 - d1_prev) / (c[b] - c[b - 2])) > a_lim
+            d1_prev = d1
+        return beyond
+
+    def follow(self, p, pv, pa, preview=None):
+        """One tick along a plan (position, velocity /s, acceleration /s^2 per joint) and, if given, its
+        preview (D, runs); the flags per joint."""
         n = p.shape[0]
         dt = self.dt
         self.base = self.brake_profile(self.v, self.a)
@@ -613,6 +943,28 @@ class JerkLimit:
         hold = (finite & (self.v == 0.0) & (self.a == 0.0) & (np.abs(self.q - wall) <= self.pos_slack)
                 & (np.abs(fv) <= self.rest_velocity) & (np.abs(fa) <= self.rest_acceleration))
 
+        # the receding-horizon law where the plan, now or ahead, is beyond 0.9 of a bound
+        mpc = np.zeros(n, dtype=bool)
+        mpc_ok = np.zeros(n, dtype=bool)
+        mpc_jerk = np.zeros(n)
+        mpc_bound = np.zeros(n, dtype=bool)
+        if preview is not None:
+            with np.errstate(all="ignore"):
+                ask = (ratio > FEED_FORWARD_FULL) | ((flags & (POSITION | VELOCITY | ACCELERATION)) != 0)
+            latch = finite & ~hold & (ask | self.preview_beyond(preview))
+            self.preview_latch = np.where(latch, self.horizon_ticks,
+                                          np.where(finite & (self.preview_latch > 0), self.preview_latch - 1,
+                                                   self.preview_latch))
+            mpc = finite & ~hold & (self.preview_latch > 0)
+            for i in np.flatnonzero(mpc):
+                gains = self.gains[i]
+                mpc_jerk[i] = gains.bounded_jerk(float(self.q[i]), float(self.v[i]), float(self.a[i]),
+                                                 preview[i].tolist(), float(self.j_use[i]), float(self.a_strict[i]),
+                                                 float(self.v_strict[i]))
+                mpc_bound[i] = gains.first_at_bound
+            mpc_ok = mpc & np.isfinite(mpc_jerk)
+            flags |= np.where(mpc_ok & mpc_bound, JERK, 0)
+
         # the linear zone: state feedback on the error predicted at the end of the tick
         q0 = self.q + dt * (self.v + 0.5 * dt * self.a)
         v0 = self.v + dt * self.a
@@ -620,12 +972,16 @@ class JerkLimit:
                         + self.velocity_share * self.k2 * (fv + self.drift))
         jerk = feed_forward + self.k1 * (wall - q0) - self.k2 * v0 - self.k3 * self.a
         zone = np.where(self.tracking, EXIT_SHARE * self.j_use, ENTRY_SHARE * self.j_use)
-        linear = finite & ~hold & ~plan_at_rest & (jerk <= zone) & (jerk >= -zone)
+        linear = finite & ~hold & ~mpc & ~plan_at_rest & (jerk <= zone) & (jerk >= -zone)
         clipped = linear & ((jerk > self.j_use) | (jerk < -self.j_use))
         jerk = np.where(clipped, np.where(jerk > 0.0, self.j_use, -self.j_use), jerk)
         flags |= np.where(clipped, JERK, 0)
-        far = finite & ~hold & ~linear
-        self.tracking = np.where(finite, linear, self.tracking)
+        far = finite & ~hold & ~linear & ~mpc_ok
+        self.tracking = np.where(finite, linear | mpc_ok, self.tracking)
+        # the receding-horizon law's jerk goes through the linear zone's shield
+        receding = mpc_ok
+        jerk = np.where(receding, mpc_jerk, jerk)
+        linear = linear | receding
 
         # the minimum-time law, in the frame of the plan's lagged rate only on a plan inside the bounds
         rate = np.where(plan_at_rest | (self.feasibility < 1.0) | (self.followable < 1.0), 0.0, self.plan_rate)
@@ -655,7 +1011,7 @@ class JerkLimit:
             ok = linear & (full == OK)
             keep = np.where(ok, 0.0, keep)
             push = np.where(ok, jerk, push)
-            law = np.where(ok, 1, law)
+            law = np.where(ok, np.where(receding, 8, 1), law)
             rest = linear & (full != OK)
             if rest.any():
                 none = self.feasible(1.0, zeros, np.zeros(n, dtype=np.int64), zeros, False)
@@ -668,7 +1024,7 @@ class JerkLimit:
                 keep = np.where(shield, 1.0 - lo, keep)
                 push = np.where(shield, lo * jerk, push)
                 flags |= np.where(shield, self.flag_of(hi_code), 0)
-                law = np.where(shield, 2, law)
+                law = np.where(shield, np.where(receding, 9, 2), law)
         # the minimum-time law toward the plan
         if steer.any():
             full_push = direction * self.j_use
@@ -733,6 +1089,10 @@ class Tick:
         self.plan.state_at(self.first, self.target, self.velocity, self.acceleration)
         self.limiter.reset(self.target + np.array(spec["start_offsets"]))
         self.previous_command = self.limiter.q.copy()
+        self.preview = bool(spec.get("preview", False))
+        if self.preview and list(spec["preview_run_ends"]) != self.limiter.run_ends:
+            raise ValueError("the preview's runs differ from weft's: %s against %s"
+                             % (self.limiter.run_ends, spec["preview_run_ends"]))
 
     def run(self, tick):
         plan_tick = self.first + (tick & (self.window - 1))
@@ -744,7 +1104,8 @@ class Tick:
             self.velocity[:] = 0.0
             self.acceleration[:] = 0.0
         remaining = self.plan.ticks_remaining(plan_tick)
-        flags = int(np.bitwise_or.reduce(self.limiter.follow(self.target, self.velocity, self.acceleration)))
+        preview = self.plan.preview_means(plan_tick, self.limiter.run_ends) if self.preview and remaining > 0 else None
+        flags = int(np.bitwise_or.reduce(self.limiter.follow(self.target, self.velocity, self.acceleration, preview)))
         command = self.limiter.q
         self.frame_positions[:] = command
         np.divide(command - self.previous_command, self.period, out=self.frame_velocities)
