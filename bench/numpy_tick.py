@@ -482,9 +482,10 @@ class PreviewGains:
     def free_rate(self, k, vs, acs):
         return acs if k < self.runs else vs + self.end_time[k - self.runs] * acs
 
-    def dot(self, row, y):
+    @staticmethod
+    def dot(row, y, last):
         total = 0.0
-        for j in range(self.runs):
+        for j in range(last + 1):
             total += row[j] * y[j]
         return total
 
@@ -508,7 +509,7 @@ class PreviewGains:
                 res = preview[k] - (f[k][0] * q + f[k][1] * vs + f[k][2] * acs)
                 wr = self.weight[k] * res
                 gk = g[k]
-                for j in range(n):
+                for j in range(k + 1):  # G is lower triangular
                     b[j] += gk[j] * wr
             self.penalties = rnd > 0
             for k in range(2 * n):
@@ -516,22 +517,25 @@ class PreviewGains:
                     continue
                 offset = self.free_rate(k, vs, acs)
                 lim = a_lim if k < n else v_lim
-                goal = lim if (offset + self.dot(self.rate[k], u)) > 0.0 else -lim
+                last = k if k < n else k - n
+                goal = lim if (offset + self.dot(self.rate[k], u, last)) > 0.0 else -lim
                 ck = self.rate[k]
-                for r in range(n):
+                for r in range(last + 1):
                     cr = ck[r]
                     if cr == 0.0:
                         continue
                     b[r] += PENALTY * cr * (goal - offset)
                     row = hmod[r]
-                    for c in range(n):
+                    for c in range(last + 1):
                         row[c] += PENALTY * cr * ck[c]
             self.solve_box(j_lim)
             added = False
             for k in range(2 * n):
-                x = self.free_rate(k, vs, acs) + self.dot(self.rate[k], u)
+                if penalised[k]:
+                    continue
+                x = self.free_rate(k, vs, acs) + self.dot(self.rate[k], u, k if k < n else k - n)
                 lim = a_lim if k < n else v_lim
-                if not penalised[k] and (x > lim or x < -lim):
+                if x > lim or x < -lim:
                     penalised[k] = True
                     added = True
             if not added:

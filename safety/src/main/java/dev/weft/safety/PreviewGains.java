@@ -200,7 +200,8 @@ final class PreviewGains {
                 double res = preview[at + k] - (f[k][0] * q + f[k][1] * vs + f[k][2] * as);
                 double wr = weight[k] * res;
                 double[] gk = g[k];
-                for (int j = 0; j < n; j++) {
+                // run k's mean depends on the jerks of runs 0..k only (G is lower triangular)
+                for (int j = 0; j <= k; j++) {
                     b[j] += gk[j] * wr;
                 }
             }
@@ -211,15 +212,16 @@ final class PreviewGains {
                 }
                 double offset = freeRate(k, vs, as);
                 double lim = k < n ? aLim : vLim;
-                double goal = (offset + dot(rate[k], u)) > 0.0 ? lim : -lim;
+                int last = k < n ? k : k - n;
+                double goal = (offset + dot(rate[k], u, last)) > 0.0 ? lim : -lim;
                 double[] ck = rate[k];
-                for (int r = 0; r < n; r++) {
+                for (int r = 0; r <= last; r++) {
                     double cr = ck[r];
                     if (cr == 0.0) {
                         continue;
                     }
                     b[r] += PENALTY * cr * (goal - offset);
-                    for (int c = 0; c < n; c++) {
+                    for (int c = 0; c <= last; c++) {
                         hmod[r][c] += PENALTY * cr * ck[c];
                     }
                 }
@@ -227,9 +229,12 @@ final class PreviewGains {
             solveBox(jLim);
             boolean added = false;
             for (int k = 0; k < 2 * n; k++) {
-                double x = freeRate(k, vs, as) + dot(rate[k], u);
+                if (penalised[k]) {
+                    continue;
+                }
+                double x = freeRate(k, vs, as) + dot(rate[k], u, k < n ? k : k - n);
                 double lim = k < n ? aLim : vLim;
-                if (!penalised[k] && (x > lim || x < -lim)) {
+                if (x > lim || x < -lim) {
                     penalised[k] = true;
                     added = true;
                 }
@@ -247,9 +252,13 @@ final class PreviewGains {
         return k < runs ? as : vs + endTime[k - runs] * as;
     }
 
-    private double dot(double[] x, double[] y) {
+    /**
+     * {@code x . y} over entries 0..last: a rate row is zero past its own run (a jerk after the end of
+     * run k does not change the rate there), so the terms left out are exact zeros.
+     */
+    private static double dot(double[] x, double[] y, int last) {
         double s = 0.0;
-        for (int j = 0; j < runs; j++) {
+        for (int j = 0; j <= last; j++) {
             s += x[j] * y[j];
         }
         return s;
