@@ -32,7 +32,7 @@ each accepted chunk (np.cumsum adds in tick order, as Java does), give the mean 
 ahead (AbstractChunkBlender.previewMeans); the limiter latches the receding-horizon law for the
 horizon's length wherever the plan, now or in the preview (divided differences of the run means),
 is beyond 0.9 of a bound, and takes the first jerk of its least-squares plan
-(dev.weft.safety.PreviewGains: move-blocked runs, the jerk in a box solved by a primal active set
+(dev.weft.safety.PreviewLaw: move-blocked runs, the jerk in a box solved by a primal active set
 method warm-started from the last solve, penalties on the accelerations and velocities at the
 runs' ends) through the linear zone's shield. That part is scalar Python per joint, in Java's
 order of operations; the run lengths are computed here and checked equal to the export's.
@@ -98,7 +98,7 @@ ENTRY_SHARE = 1.0
 EXIT_SHARE = 6.0
 FEED_FORWARD_FULL = 0.9
 FOLLOW_DEFICIT = 0.05
-# AxisFilter and PreviewGains constants of the receding-horizon law
+# AxisFilter and PreviewLaw constants of the receding-horizon law
 PREVIEW_BLOCKS = 10
 PREVIEW_HORIZON = 0.4
 PREVIEW_JERK_PRICE = 0.00384
@@ -394,7 +394,7 @@ def preview_runs(dt):
 
 
 def factor_row(m, idx, chol, r):
-    """PreviewGains.factorRow: row r of the Cholesky factor of m restricted to idx."""
+    """PreviewLaw.factorRow: row r of the Cholesky factor of m restricted to idx."""
     jr = idx[r]
     row = chol[r]
     for c in range(r + 1):
@@ -405,8 +405,8 @@ def factor_row(m, idx, chol, r):
         row[c] = math.sqrt(total) if c == r else total / other[c]
 
 
-class PreviewGains:
-    """The receding-horizon law of one joint (dev.weft.safety.PreviewGains), in plain Python floats.
+class PreviewLaw:
+    """The receding-horizon law of one joint (dev.weft.safety.PreviewLaw), in plain Python floats.
 
     Scalar code, one joint at a time: the active-set method branches per joint and per iteration,
     so there is nothing to vectorise, and Python's floats are IEEE doubles rounded as Java's are.
@@ -476,7 +476,7 @@ class PreviewGains:
         self.rhs = [0.0] * n
         self.free = [0] * n
         self.penalised = [False] * (2 * n)
-        self.penalties = False
+        self.current = self.hess  # the Hessian of the current solve: hess, or hmod once it carries penalties
         self.first_at_bound = False
 
     def free_rate(self, k, vs, acs):
@@ -502,8 +502,10 @@ class PreviewGains:
             penalised[k] = False
         g, f, b, hmod, u = self.g, self.f, self.b, self.hmod, self.u
         for rnd in range(OUTER + 1):
+            self.current = self.hess if rnd == 0 else hmod
             for r in range(n):
-                hmod[r][:] = self.hess[r]
+                if rnd > 0:
+                    hmod[r][:] = self.hess[r]
                 b[r] = 0.0
             for k in range(n):
                 res = preview[k] - (f[k][0] * q + f[k][1] * vs + f[k][2] * acs)
@@ -511,7 +513,6 @@ class PreviewGains:
                 gk = g[k]
                 for j in range(k + 1):  # G is lower triangular
                     b[j] += gk[j] * wr
-            self.penalties = rnd > 0
             for k in range(2 * n):
                 if not penalised[k]:
                     continue
@@ -591,7 +592,7 @@ class PreviewGains:
 
     def solve_free(self, lim):
         n = self.runs
-        state, u, b, hmod, rhs, free, mu = self.state, self.u, self.b, self.hmod, self.rhs, self.free, self.mu
+        state, u, b, hmod, rhs, free, mu = self.state, self.u, self.b, self.current, self.rhs, self.free, self.mu
         m = 0
         for j in range(n):
             if state[j] == 0:
@@ -599,7 +600,7 @@ class PreviewGains:
                 m += 1
             else:
                 u[j] = state[j] * lim
-        whole = m == n and not self.penalties
+        whole = m == n and hmod is self.hess
         chol = self.whole_factor if whole else self.factor
         for r in range(m):
             jr = free[r]
@@ -692,10 +693,10 @@ class JerkLimit:
         self.frame_rate = np.zeros(n)
         # the receding-horizon law, per joint
         runs = preview_runs(dt)
-        self.gains = [PreviewGains(dt, runs, PREVIEW_JERK_PRICE / float(self.j_use[i])) for i in range(n)]
-        self.run_ends = self.gains[0].run_ends
-        self.centres = np.array(self.gains[0].centres)
-        self.horizon_ticks = self.gains[0].horizon_ticks
+        self.laws = [PreviewLaw(dt, runs, PREVIEW_JERK_PRICE / float(self.j_use[i])) for i in range(n)]
+        self.run_ends = self.laws[0].run_ends
+        self.centres = np.array(self.laws[0].centres)
+        self.horizon_ticks = self.laws[0].horizon_ticks
         self.preview_latch = np.zeros(n, dtype=np.int64)
 
 
@@ -961,11 +962,11 @@ class JerkLimit:
                                                    self.preview_latch))
             mpc = finite & ~hold & (self.preview_latch > 0)
             for i in np.flatnonzero(mpc):
-                gains = self.gains[i]
-                mpc_jerk[i] = gains.bounded_jerk(float(self.q[i]), float(self.v[i]), float(self.a[i]),
+                law = self.laws[i]
+                mpc_jerk[i] = law.bounded_jerk(float(self.q[i]), float(self.v[i]), float(self.a[i]),
                                                  preview[i].tolist(), float(self.j_use[i]), float(self.a_strict[i]),
                                                  float(self.v_strict[i]))
-                mpc_bound[i] = gains.first_at_bound
+                mpc_bound[i] = law.first_at_bound
             mpc_ok = mpc & np.isfinite(mpc_jerk)
             flags |= np.where(mpc_ok & mpc_bound, JERK, 0)
 

@@ -258,15 +258,11 @@ abstract class AbstractChunkBlender implements ChunkBlender {
     private void formRunningSums(long from) {
         sumBase = from;
         for (int d = 0; d < dims; d++) {
-            pointVelocity[d] = 0.0;
-        }
-        for (long t = from; t <= planEnd; t++) {
-            int slot = (int) (t & mask);
-            readPosition(slot, point);
-            int base = slot * dims;
-            for (int d = 0; d < dims; d++) {
-                pointVelocity[d] += point[d];
-                runningSum[base + d] = pointVelocity[d];
+            double sum = 0.0;
+            for (long t = from; t <= planEnd; t++) {
+                int slot = (int) (t & mask);
+                sum += readPosition(slot, d);
+                runningSum[slot * dims + d] = sum;
             }
         }
     }

@@ -102,12 +102,12 @@ final class AxisFilter {
 
     /**
      * Lengths in ticks of the preview's runs at period dt: PREVIEW_BLOCKS runs growing geometrically
-     * by PREVIEW_GROWTH, together about PREVIEW_HORIZON long, none shorter than a tick.
+     * by PREVIEW_GROWTH (above 1), together about PREVIEW_HORIZON long, none shorter than a tick.
      */
     static int[] previewRuns(double dt) {
         double total = Math.max(PREVIEW_BLOCKS, PREVIEW_HORIZON / dt);
         double r = PREVIEW_GROWTH;
-        double first = r == 1.0 ? total / PREVIEW_BLOCKS : total * (r - 1.0) / (Math.pow(r, PREVIEW_BLOCKS) - 1.0);
+        double first = total * (r - 1.0) / (Math.pow(r, PREVIEW_BLOCKS) - 1.0);
         int[] runs = new int[PREVIEW_BLOCKS];
         for (int b = 0; b < PREVIEW_BLOCKS; b++) {
             runs[b] = Math.max(1, (int) Math.round(first * Math.pow(r, b)));
@@ -184,10 +184,8 @@ final class AxisFilter {
     /** Frame rate of the current minimum-time feasibility checks. */
     private double frameRate;
 
-    /** Gains of the receding-horizon law (shared by joints with the same period). */
-    final PreviewGains gains;
-    /** Ticks of the preview horizon. */
-    private final int horizonTicks;
+    /** This joint's receding-horizon law. */
+    final PreviewLaw law;
     /** Scratch: this joint's run means of the preview, as fetched this tick. */
     private final double[] runMeans;
     /** Ticks left in which the receding-horizon law leads: renewed whenever the plan, now or ahead, is beyond 0.9 of a bound. */
@@ -225,9 +223,8 @@ final class AxisFilter {
     AxisFilter(double dt, double lo, double hi, double vMax, double aMax, double jMax,
                double vMargin, double aMargin, double jMargin, double posSlack, int[] previewRuns) {
         this.dt = dt;
-        this.gains = new PreviewGains(dt, previewRuns, PREVIEW_JERK_PRICE / (jMax - jMargin));
-        this.horizonTicks = gains.horizonTicks;
-        this.runMeans = new double[gains.runs];
+        this.law = new PreviewLaw(dt, previewRuns, PREVIEW_JERK_PRICE / (jMax - jMargin));
+        this.runMeans = new double[law.runs];
         this.qLoHard = lo;
         this.qHiHard = hi;
         this.posSlack = posSlack;
@@ -666,12 +663,12 @@ final class AxisFilter {
                 && Math.abs(fa) <= restAcceleration;
         // a hold does not look ahead (nor ask for the preview): nothing moves until the plan does,
         // and then it is judged
-        double[] preview = source != null && !holding ? fetch(source, joint) : null;
-        if (preview != null || (source != null && holding)) {
+        double[] preview = source == null || holding ? null : fetch(source, joint);
+        if (source != null) {
             if (preview != null && (ratio > FEED_FORWARD_FULL
                     || (flags & (JerkLimiter.POSITION | JerkLimiter.VELOCITY | JerkLimiter.ACCELERATION)) != 0
-                    || previewBeyond(preview, 0))) {
-                previewLatch = horizonTicks;
+                    || previewBeyond(preview))) {
+                previewLatch = law.horizonTicks;
             } else if (previewLatch > 0) {
                 previewLatch--;
             }
@@ -686,10 +683,10 @@ final class AxisFilter {
         if (preview != null && previewLatch > 0) {
             // receding horizon: the plan ahead is beyond the bounds, so the least-squares plan of the
             // command over the preview chooses the jerk, clipped to the bound and to the shield
-            double jerk = gains.boundedJerk(q, v, a, preview, 0, jUse, aStrict, vStrict);
+            double jerk = law.boundedJerk(q, v, a, preview, jUse, aStrict, vStrict);
             if (Double.isFinite(jerk)) {
                 tracking = true;
-                if (gains.firstAtBound) {
+                if (law.firstAtBound) {
                     flags |= JerkLimiter.JERK;
                 }
                 return commit(flags | shieldConstantJerk(jerk));
@@ -891,14 +888,14 @@ final class AxisFilter {
      * ticks' times, and at the short first runs that bias alone made the third differences of a plan
      * at 0.36 of the jerk bound read 1.8 of it. The plan's jerk counts at the current tick.)
      */
-    private boolean previewBeyond(double[] preview, int at) {
-        int n = gains.runs;
-        double[] c = gains.centres;
+    private boolean previewBeyond(double[] preview) {
+        int n = law.runs;
+        double[] c = law.centres;
         double vLim = FEED_FORWARD_FULL * vStrict;
         double aLim = FEED_FORWARD_FULL * aStrict / 2.0;
         double d1Prev = 0.0;
         for (int b = 1; b < n; b++) {
-            double d1 = (preview[at + b] - preview[at + b - 1]) / (c[b] - c[b - 1]);
+            double d1 = (preview[b] - preview[b - 1]) / (c[b] - c[b - 1]);
             if (Math.abs(d1) > vLim) {
                 return true;
             }

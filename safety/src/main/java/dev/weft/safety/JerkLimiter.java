@@ -51,7 +51,7 @@ package dev.weft.safety;
  * in and boxed to its bound, solved by a primal active set method (the strategy of Stark and
  * Parker's bounded-variable least squares, Computational Statistics 10, 1995) with exterior
  * penalties on the accelerations and velocities at the runs' ends; its first jerk, through the
- * shield. See {@code PreviewGains}.
+ * shield. See {@code PreviewLaw}.
  *
  * <h2>What was changed for the discrete-time bounds</h2>
  * <ul>
@@ -107,14 +107,12 @@ public final class JerkLimiter {
     private final double dt;
     private final AxisFilter[] axes;
     private final int[] jointFlags;
-    private final ArrayPreview arrayPreview;
 
     private JerkLimiter(JointLimits limits, double dt, AxisFilter[] axes) {
         this.limits = limits;
         this.dt = dt;
         this.axes = axes;
         this.jointFlags = new int[axes.length];
-        this.arrayPreview = new ArrayPreview(axes[0].gains.runs);
     }
 
     /**
@@ -290,12 +288,12 @@ public final class JerkLimiter {
      * @return OR of the per-joint flags of this tick
      */
     public int apply(double[] target, double[] velocity, double[] acceleration, double[] command) {
-        return apply(target, velocity, acceleration, (PlanPreview) null, command);
+        return apply(target, velocity, acceleration, null, command);
     }
 
     /** Number of runs of the preview {@link #apply(double[], double[], double[], PlanPreview, double[])} takes per joint. */
     public int previewRuns() {
-        return axes[0].gains.runs;
+        return axes[0].law.runs;
     }
 
     /**
@@ -303,27 +301,7 @@ public final class JerkLimiter {
      * the ticks {@code [ends[b-1], ends[b])} ahead, with {@code ends[-1] = 0} (a fresh copy).
      */
     public int[] previewRunEnds() {
-        return axes[0].gains.runEnds.clone();
-    }
-
-    /**
-     * As {@link #apply(double[], double[], double[], PlanPreview, double[])}, with the preview as an
-     * array: joint {@code d}'s run {@code b} at {@code preview[d * previewRuns() + b]}.
-     *
-     * @param preview read only, length {@code joints() * previewRuns()}, or null (the same as the
-     *                four-argument form); any values (a non-finite mean leaves that joint on its
-     *                other laws)
-     */
-    public int apply(double[] target, double[] velocity, double[] acceleration, double[] preview, double[] command) {
-        if (preview == null) {
-            return apply(target, velocity, acceleration, command);
-        }
-        if (preview.length != axes.length * previewRuns()) {
-            throw new IllegalArgumentException("jerk limiter: preview must have length " + axes.length * previewRuns()
-                    + ", was " + preview.length);
-        }
-        arrayPreview.means = preview;
-        return apply(target, velocity, acceleration, arrayPreview, command);
+        return axes[0].law.runEnds.clone();
     }
 
     /**

@@ -43,7 +43,6 @@ package dev.weft.safety;
 public final class Supervisor {
 
     private final JerkLimiter main;
-    private final ArrayPreview arrayPreview;
     private final JerkLimiter soft;
     private final StopCategory category;
     private final double[] maxArmingOffset;
@@ -84,7 +83,6 @@ public final class Supervisor {
 
     private Supervisor(Builder b, double[] initialPose) {
         this.main = JerkLimiter.create(b.limits, b.period);
-        this.arrayPreview = new ArrayPreview(main.previewRuns());
         this.soft = JerkLimiter.create(b.limits.scaled(b.armVelocity, b.armAcceleration, b.armJerk), b.period);
         this.category = b.category;
         this.joints = b.limits.count();
@@ -294,24 +292,7 @@ public final class Supervisor {
      */
     public SupervisorState step(long tick, long timeNanos, double[] target, double[] targetVelocity,
             double[] targetAcceleration, int watchdogCode, double[] command) {
-        return step(tick, timeNanos, target, targetVelocity, targetAcceleration, (PlanPreview) null, watchdogCode,
-                command);
-    }
-
-    /**
-     * As {@link #step(long, long, double[], double[], double[], PlanPreview, int, double[])}, with the
-     * preview as an array (layout of {@link JerkLimiter#apply(double[], double[], double[], double[], double[])}),
-     * or null.
-     */
-    public SupervisorState step(long tick, long timeNanos, double[] target, double[] targetVelocity,
-            double[] targetAcceleration, double[] preview, int watchdogCode, double[] command) {
-        if (preview != null && preview.length != joints * main.previewRuns()) {
-            throw new IllegalArgumentException("supervisor: preview must have length " + joints * main.previewRuns()
-                    + ", was " + preview.length);
-        }
-        arrayPreview.means = preview;
-        return step(tick, timeNanos, target, targetVelocity, targetAcceleration, preview == null ? null : arrayPreview,
-                watchdogCode, command);
+        return step(tick, timeNanos, target, targetVelocity, targetAcceleration, null, watchdogCode, command);
     }
 
     /**
@@ -321,7 +302,7 @@ public final class Supervisor {
      * closing a gap of tenths of a radian at full speed arrived with the speed still off the plan's,
      * and overshot by up to 70 mrad on the demo.
      *
-     * @param preview the plan's run means ahead, layout and length as the limiter asks, or null
+     * @param preview the plan ahead, asked per joint as the limiter needs it, or null
      */
     public SupervisorState step(long tick, long timeNanos, double[] target, double[] targetVelocity,
             double[] targetAcceleration, PlanPreview preview, int watchdogCode, double[] command) {
@@ -380,8 +361,8 @@ public final class Supervisor {
      * acceleration are continuous where it begins and where it joins the plan. After the ramp the
      * full-limit limiter takes the state over (the bounds only widen, so the commands stay within
      * them) and closes what gap is left to the plan; the state is ARMED once every joint is within
-     * the arming tolerance of the plan, in speed too where the plan can be matched in speed. A limiter fault or the timeout seen at this tick makes this
-     * tick's command the first of the stop.
+     * the arming tolerance of the plan, in speed too where the plan can be matched in speed. A
+     * limiter fault or the timeout seen at this tick makes this tick's command the first of the stop.
      */
     private void stepArming(long tick, long timeNanos, double[] target, double[] targetVelocity,
             double[] targetAcceleration, double[] command) {
@@ -414,8 +395,7 @@ public final class Supervisor {
             goalVelocity = rampVelocity;
             goalAcceleration = rampAcceleration;
         }
-        if (!applyOrStop(limiter, tick, timeNanos, goal, goalVelocity, goalAcceleration, (PlanPreview) null, command,
-                !catchingUp)) {
+        if (!applyOrStop(limiter, tick, timeNanos, goal, goalVelocity, goalAcceleration, null, command, !catchingUp)) {
             return;
         }
         if (armingTicks >= armingRampTicks && withinTolerance(limiter, target, targetVelocity, targetAcceleration)) {
@@ -465,8 +445,8 @@ public final class Supervisor {
             if (!(Math.abs(limiter.position(i) - target[i]) <= armingTolerance)) {
                 return false;
             }
-            boolean matchable = Math.abs(targetVelocity[i]) <= 0.9 * limits.velocity(i)
-                    && Math.abs(targetAcceleration[i]) <= 0.9 * limits.acceleration(i);
+            boolean matchable = Math.abs(targetVelocity[i]) <= AxisFilter.FEED_FORWARD_FULL * limits.velocity(i)
+                    && Math.abs(targetAcceleration[i]) <= AxisFilter.FEED_FORWARD_FULL * limits.acceleration(i);
             if (matchable && !(Math.abs(limiter.velocity(i) - targetVelocity[i]) <= armingTolerance / ARMING_SETTLE)) {
                 return false;
             }

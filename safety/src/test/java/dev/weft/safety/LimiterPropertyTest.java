@@ -50,6 +50,7 @@ class LimiterPropertyTest {
             int kind = e % 4;
             boolean plan = kind != 0;
             double[] preview = kind >= 2 ? new double[joints * limiter.previewRuns()] : null;
+            PlanPreview ahead = preview == null ? null : Previews.over(preview, limiter.previewRuns());
             for (int k = 1; k <= TICKS_PER_EPISODE; k++) {
                 source.next(k, target);
                 int flags;
@@ -58,7 +59,7 @@ class LimiterPropertyTest {
                     if (preview != null) {
                         hostilePreview(rng, limits, dt * limiter.previewRunEnds()[limiter.previewRuns() - 1] / limiter.previewRuns(), target, velocity, preview);
                     }
-                    flags = limiter.apply(target, velocity, acceleration, preview, command);
+                    flags = limiter.apply(target, velocity, acceleration, ahead, command);
                 } else {
                     flags = limiter.apply(target, command);
                 }

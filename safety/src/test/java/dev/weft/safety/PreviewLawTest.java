@@ -10,7 +10,7 @@ import org.junit.jupiter.api.Test;
  * The receding-horizon law's quadratic program, checked against an independent build of the same
  * program: the prediction matrices of the sampled triple integrator formed with EJML from the
  * zero-order-hold discretisation {@code x[k+1] = Ad x[k] + Bd u[k]} (Ad = exp(A dt), exact here since
- * A is nilpotent; common practice), the cost of {@link PreviewGains} written out tick by tick, and
+ * A is nilpotent; common practice), the cost of {@link PreviewLaw} written out tick by tick, and
  * the box-constrained minimum found by a different method, accelerated projected gradient (FISTA,
  * Beck and Teboulle, SIAM J. Imaging Sci. 2(1), 2009) run to convergence, with its step from
  * EJML's eigenvalues of the Hessian.
@@ -24,7 +24,7 @@ class PreviewLawTest {
     void theFirstJerkIsTheMinimiserOfTheBoxConstrainedProgram() {
         int[] runs = AxisFilter.previewRuns(DT);
         double tau = Math.cbrt(AxisFilter.PREVIEW_JERK_PRICE / JERK);
-        PreviewGains gains = new PreviewGains(DT, runs, AxisFilter.PREVIEW_JERK_PRICE / JERK);
+        PreviewLaw law = new PreviewLaw(DT, runs, AxisFilter.PREVIEW_JERK_PRICE / JERK);
         Reference ref = new Reference(runs, tau);
         SplittableRandom rng = new SplittableRandom(42);
         int atBound = 0;
@@ -43,10 +43,10 @@ class PreviewLawTest {
             double step = mismatch * rng.nextDouble(-1, 1) * (trial % 3);
             double stepAt = rng.nextDouble(0, 0.4);
             for (int b = 0; b < runs.length; b++) {
-                double t = gains.centres[b];
+                double t = law.centres[b];
                 preview[b] = q + rate * t + (t > stepAt ? step : 0.0);
             }
-            double mine = gains.boundedJerk(q, v, a, preview, 0, JERK, Double.POSITIVE_INFINITY,
+            double mine = law.boundedJerk(q, v, a, preview, JERK, Double.POSITIVE_INFINITY,
                     Double.POSITIVE_INFINITY);
             double theirs = ref.firstJerk(q, v, a, preview, JERK);
             worst = Math.max(worst, Math.abs(mine - theirs));
@@ -67,10 +67,10 @@ class PreviewLawTest {
     @Test
     void onAPlanThatRestsAtTheCommandTheLawAsksForNoJerk() {
         int[] runs = AxisFilter.previewRuns(DT);
-        PreviewGains gains = new PreviewGains(DT, runs, AxisFilter.PREVIEW_JERK_PRICE / JERK);
+        PreviewLaw law = new PreviewLaw(DT, runs, AxisFilter.PREVIEW_JERK_PRICE / JERK);
         double[] preview = new double[runs.length];
         java.util.Arrays.fill(preview, 0.7);
-        assertThat(gains.boundedJerk(0.7, 0, 0, preview, 0, JERK, 5, 1.4)).isCloseTo(0.0,
+        assertThat(law.boundedJerk(0.7, 0, 0, preview, JERK, 5, 1.4)).isCloseTo(0.0,
                 org.assertj.core.api.Assertions.within(1e-9));
     }
 

@@ -120,6 +120,7 @@ class TransparencyTest {
         int flagged = 0;
         int[] ends = sup.previewRunEnds();
         double[] preview = withPreview ? new double[n * ends.length] : null;
+        PlanPreview ahead = withPreview ? Previews.over(preview, ends.length) : null;
         double[] q = new double[n];
         double[] scratch = new double[n];
         for (int k = 1; k <= 6000; k++) {
@@ -135,7 +136,7 @@ class TransparencyTest {
                 }
             }
             plan.at(k * DT, p, pv, pa, pj);
-            SupervisorState s = sup.step(k, k, p, pv, pa, preview, 0, cmd);
+            SupervisorState s = sup.step(k, k, p, pv, pa, ahead, 0, cmd);
             checker.accept(k, cmd);
             if (s == SupervisorState.ARMED) {
                 if (armedAt < 0) {

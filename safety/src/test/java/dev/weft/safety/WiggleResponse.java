@@ -53,6 +53,7 @@ final class WiggleResponse {
         JerkLimiter l = JerkLimiter.create(limits, dt);
         int[] ends = l.previewRunEnds();
         double[] ahead = preview ? new double[ends.length] : null;
+        PlanPreview source = preview ? Previews.over(ahead, ends.length) : null;
         if (!l.reset(new double[] {HOLD})) {
             throw new IllegalStateException("hold pose not accepted");
         }
@@ -98,7 +99,7 @@ final class WiggleResponse {
             p[0] = HOLD + amplitude * e * sin;
             pv[0] = amplitude * (e1 * sin + e * w * cos);
             pa[0] = amplitude * (e2 * sin + 2 * e1 * w * cos - e * w * w * sin);
-            int flags = l.apply(p, pv, pa, ahead, c);
+            int flags = l.apply(p, pv, pa, source, c);
             if (k > settle) {
                 double d = c[0] - HOLD;
                 dev[k - settle - 1] = d;

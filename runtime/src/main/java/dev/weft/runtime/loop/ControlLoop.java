@@ -91,7 +91,6 @@ public final class ControlLoop implements AutoCloseable {
     private final double[] targetAcceleration;
     /** The plan ahead for the limiter's receding-horizon law (not with a smoother: the preview would be unsmoothed). */
     private final BlenderPreview preview = new BlenderPreview();
-    private boolean previewed;
     private final Smoother velocitySmoother;
     private final Smoother accelerationSmoother;
     /** Control ticks per second. */
@@ -324,7 +323,6 @@ public final class ControlLoop implements AutoCloseable {
         // 4 the plan's state at this tick, 5 smoothing
         boolean planned = blender.stateAt(n, target, targetVelocity, targetAcceleration);
         long remaining = blender.ticksRemaining(n);
-        previewed = planned && smoother == null;
         preview.tick = n;
         if (!planned) {
             for (int i = 0; i < joints; i++) {
@@ -365,7 +363,7 @@ public final class ControlLoop implements AutoCloseable {
         // a plan the target is NaN, which the supervisor treats as a fault while moving and ignores
         // while holding, so starvation stops the robot even with PLAN_STARVED switched off.
         SupervisorState s = supervisor.step(n, deadline - t0, target, targetVelocity, targetAcceleration,
-                previewed ? preview : (PlanPreview) null, code, command);
+                planned && smoother == null ? preview : null, code, command);
 
         // 8 emit (invariant 2: nothing non-finite reaches the port)
         frame.tick = n;

@@ -27,7 +27,7 @@ package dev.weft.safety;
  * <p>Built once at construction (allocates); then the control thread alone calls
  * {@link #boundedJerk}, which allocates nothing.
  */
-final class PreviewGains {
+final class PreviewLaw {
 
     /** Weight of a penalised acceleration or velocity beyond its bound (with a position run weighing its ticks). */
     static final double PENALTY = 100.0;
@@ -63,13 +63,11 @@ final class PreviewGains {
     private final double[][] factor;
     /** The Cholesky factor of the Hessian itself, every run free. */
     private final double[][] wholeFactor;
-    /** Whether the current solve carries a penalty. */
-    private boolean penalties;
+    /** The Hessian of the current solve: {@code hess} itself, or {@code hmod} once it carries penalties. */
+    private double[][] current;
     private final double[] rhs;
     private final int[] free;
     private final boolean[] penalised;
-    /** Active-set iterations of the last solve (all rounds). */
-    int iterations;
     /** Whether the last solve put the first run's jerk at its bound. */
     boolean firstAtBound;
 
@@ -78,7 +76,7 @@ final class PreviewGains {
      * @param jerkPrice the position error a jerk of 1 is worth: the cost's {@code tau^3}, so its
      *                  jerk weight is {@code jerkPrice^2}
      */
-    PreviewGains(double dt, int[] runTicks, double jerkPrice) {
+    PreviewLaw(double dt, int[] runTicks, double jerkPrice) {
         if (runTicks.length < 1 || !(dt > 0.0) || !(jerkPrice > 0.0)) {
             throw new IllegalArgumentException("preview: " + runTicks.length + " runs, dt " + dt + ", jerk price " + jerkPrice);
         }
@@ -175,11 +173,11 @@ final class PreviewGains {
     }
 
     /**
-     * The first jerk for state (q, v, a) and the run means {@code preview[at .. at + runs)}, with
+     * The first jerk for state (q, v, a) and the run means {@code preview[0 .. runs)}, with
      * {@code |jerk| <= jMax} (exactly {@code +-jMax} when the first run is at its bound, see
      * {@link #firstAtBound}); non-finite when the preview is.
      */
-    double boundedJerk(double q, double v, double a, double[] preview, int at, double jMax, double aMax, double vMax) {
+    double boundedJerk(double q, double v, double a, double[] preview, double jMax, double aMax, double vMax) {
         int n = runs;
         double u1 = unit;
         double vs = v * u1;
@@ -190,14 +188,17 @@ final class PreviewGains {
         for (int k = 0; k < 2 * n; k++) {
             penalised[k] = false;
         }
-        iterations = 0;
         for (int round = 0; round <= OUTER; round++) {
+            // the first round has no penalty and solves with the Hessian itself
+            current = round == 0 ? hess : hmod;
             for (int r = 0; r < n; r++) {
-                System.arraycopy(hess[r], 0, hmod[r], 0, n);
+                if (round > 0) {
+                    System.arraycopy(hess[r], 0, hmod[r], 0, n);
+                }
                 b[r] = 0.0;
             }
             for (int k = 0; k < n; k++) {
-                double res = preview[at + k] - (f[k][0] * q + f[k][1] * vs + f[k][2] * as);
+                double res = preview[k] - (f[k][0] * q + f[k][1] * vs + f[k][2] * as);
                 double wr = weight[k] * res;
                 double[] gk = g[k];
                 // run k's mean depends on the jerks of runs 0..k only (G is lower triangular)
@@ -205,7 +206,6 @@ final class PreviewGains {
                     b[j] += gk[j] * wr;
                 }
             }
-            penalties = round > 0;
             for (int k = 0; k < 2 * n; k++) {
                 if (!penalised[k]) {
                     continue;
@@ -265,7 +265,7 @@ final class PreviewGains {
     }
 
     /**
-     * The box-constrained minimiser of {@code u' hmod u / 2 - b' u}, |u| <= lim, by a primal active
+     * The box-constrained minimiser of {@code u' current u / 2 - b' u}, |u| <= lim, by a primal active
      * set method (the strategy of Stark and Parker's bounded-variable least squares, Computational
      * Statistics 10, 1995): from the last solve's fixed runs at their bounds and the others at 0,
      * solve on the free runs; step toward that solution until a run meets its bound and fix it there; once the solution is inside the box, free the fixed run
@@ -280,7 +280,6 @@ final class PreviewGains {
             x[j] = state[j] * lim;
         }
         for (int it = 0; it < MAX_ITERATIONS; it++) {
-            iterations++;
             solveFree(lim);
             // the largest step from x toward the free solution that stays in the box
             double step = 1.0;
@@ -319,7 +318,7 @@ final class PreviewGains {
                 if (state[j] == 0) {
                     continue;
                 }
-                // mu is b - hmod u: the descent direction; at +lim it must not point down, at -lim not up
+                // mu is b - current u: the descent direction; at +lim it must not point down, at -lim not up
                 double wrong = -state[j] * mu[j];
                 if (wrong > worst) {
                     worst = wrong;
@@ -361,19 +360,19 @@ final class PreviewGains {
         }
         // with every run free and no penalty the factor is the one formed at construction (the same
         // loop, so the same doubles)
-        boolean whole = m == n && !penalties;
+        boolean whole = m == n && current == hess;
         double[][] chol = whole ? wholeFactor : factor;
         for (int r = 0; r < m; r++) {
             int jr = free[r];
             double s = b[jr];
             for (int j = 0; j < n; j++) {
                 if (state[j] != 0) {
-                    s -= hmod[jr][j] * u[j];
+                    s -= current[jr][j] * u[j];
                 }
             }
             rhs[r] = s;
             if (!whole) {
-                factorRow(hmod, free, chol, r);
+                factorRow(current, free, chol, r);
             }
         }
         for (int r = 0; r < m; r++) {
@@ -399,7 +398,7 @@ final class PreviewGains {
             } else {
                 double s = b[j];
                 for (int k = 0; k < n; k++) {
-                    s -= hmod[j][k] * u[k];
+                    s -= current[j][k] * u[k];
                 }
                 mu[j] = s;
             }
