@@ -22,9 +22,7 @@ package dev.weft.safety;
  *   sequence stays within its bounds across the switch, and follows its ramped target under limits
  *   scaled down by the arming factors, then (after the ramp) the plan under the full limits; it is
  *   refused when the first planned action is farther from the measured pose than the configured
- *   offset. Once the ramp is over and every joint is within the arming tolerance of the plan (and,
- *   where the plan is inside 0.9 of its velocity and acceleration bounds, its commanded velocity
- *   within ten times that per second of the plan's): ARMED.</li>
+ *   offset. Once the ramp is over and every joint is within the arming tolerance of the plan: ARMED.</li>
  *   <li>A watchdog code other than 0, a non-finite target, a limiter fault or the arming timeout
  *   seen in {@link #step} at tick n makes the command of tick n the first command of the
  *   controlled stop.</li>
@@ -47,14 +45,6 @@ public final class Supervisor {
     private final StopCategory category;
     private final double[] maxArmingOffset;
     private final double armingTolerance;
-    /**
-     * Time over which a velocity error may close the arming tolerance, s: ARMED also asks the
-     * commanded velocity to be within {@code armingTolerance / ARMING_SETTLE} of the plan's (0.1 rad/s
-     * for the default 0.01 rad) wherever the plan could be matched in speed. Without it the catch-up
-     * after the soft start reached the position tolerance with the speed 0.25 rad/s off the plan's on
-     * the demo's lift joint, and the armed command overshot by 43 mrad.
-     */
-    static final double ARMING_SETTLE = 0.1;
     private final long armingTimeoutTicks;
     private final long armingRampTicks;
     private final double period;
@@ -361,8 +351,8 @@ public final class Supervisor {
      * acceleration are continuous where it begins and where it joins the plan. After the ramp the
      * full-limit limiter takes the state over (the bounds only widen, so the commands stay within
      * them) and closes what gap is left to the plan; the state is ARMED once every joint is within
-     * the arming tolerance of the plan, in speed too where the plan can be matched in speed. A
-     * limiter fault or the timeout seen at this tick makes this tick's command the first of the stop.
+     * the arming tolerance of the plan. A limiter fault or the timeout seen at this tick makes this
+     * tick's command the first of the stop.
      */
     private void stepArming(long tick, long timeNanos, double[] target, double[] targetVelocity,
             double[] targetAcceleration, double[] command) {
@@ -398,7 +388,7 @@ public final class Supervisor {
         if (!applyOrStop(limiter, tick, timeNanos, goal, goalVelocity, goalAcceleration, null, command, !catchingUp)) {
             return;
         }
-        if (armingTicks >= armingRampTicks && withinTolerance(limiter, target, targetVelocity, targetAcceleration)) {
+        if (armingTicks >= armingRampTicks && withinTolerance(limiter, target)) {
             if (catchingUp || main.resetFrom(soft)) {
                 active = main;
                 transition(tick, timeNanos, SupervisorState.ARMED, Cause.ARMING_COMPLETE);
@@ -432,22 +422,9 @@ public final class Supervisor {
         return false;
     }
 
-    /**
-     * Whether every joint is within the arming tolerance of the plan, and, where the plan moves
-     * inside 0.9 of the velocity and acceleration bounds, its commanded velocity within
-     * {@code armingTolerance / ARMING_SETTLE} of the plan's (a plan beyond them cannot be matched in
-     * speed, and must still arm).
-     */
-    private boolean withinTolerance(JerkLimiter limiter, double[] target, double[] targetVelocity,
-            double[] targetAcceleration) {
-        JointLimits limits = main.limits();
+    private boolean withinTolerance(JerkLimiter limiter, double[] target) {
         for (int i = 0; i < joints; i++) {
             if (!(Math.abs(limiter.position(i) - target[i]) <= armingTolerance)) {
-                return false;
-            }
-            boolean matchable = Math.abs(targetVelocity[i]) <= AxisFilter.FEED_FORWARD_FULL * limits.velocity(i)
-                    && Math.abs(targetAcceleration[i]) <= AxisFilter.FEED_FORWARD_FULL * limits.acceleration(i);
-            if (matchable && !(Math.abs(limiter.velocity(i) - targetVelocity[i]) <= armingTolerance / ARMING_SETTLE)) {
                 return false;
             }
         }
@@ -586,9 +563,7 @@ public final class Supervisor {
          * quintic smooth step (&gt;= 0). With a ramp, the full-limit limiter takes over at the end of
          * the ramp and closes what gap is left, so a moving plan can be armed onto; with 0 (the
          * default) the soft start chases the plan directly. Either way the state is ARMED once
-         * every joint is within {@link #armingTolerance} of the plan (and its commanded velocity
-         * within ten times that per second of the plan's, where the plan is inside 0.9 of its
-         * velocity and acceleration bounds).
+         * every joint is within {@link #armingTolerance} of the plan.
          */
         public Builder armingRampTicks(long ticks) {
             if (ticks < 0) {
