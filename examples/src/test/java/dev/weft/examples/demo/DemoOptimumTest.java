@@ -5,6 +5,9 @@ import static org.assertj.core.api.Assertions.assertThat;
 import dev.weft.runtime.config.JointConfig;
 import dev.weft.runtime.config.WeftConfig;
 import dev.weft.runtime.dryrun.DryRunTrace;
+import dev.weft.safety.JerkLimiter;
+import dev.weft.safety.JointLimits;
+import dev.weft.safety.PlanPreview;
 import dev.weft.safety.SupervisorState;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -48,6 +51,15 @@ import org.junit.jupiter.params.provider.MethodSource;
  * the optimum starts each correction before the chunk that asks for it has even arrived, and rides
  * its bounds (within 0.1 % of one of them on 31 to 95 % of the ticks); the law sees only the plan
  * the blender holds, 0.2 s or so.
+ *
+ * <p>Which of the two, the law or what it sees, keeps the limiter from the optimum: the same law is
+ * also run offline on each joint with foresight (see {@link #foresight}), its preview being the plan
+ * it is measured against instead of the plan the blender holds at that tick. It then reaches 0.52 to
+ * 2.38 mrad RMS on every joint (lift 1.4 to 2.4 and twist 1.1 to 1.3, against 4.0 to 7.2 and 4.0 to 12.0
+ * in the runtime), within 1.1 to 3.2 times the optimum on all joints but roll (6.4 to 14.2; roll's plan
+ * is nearly feasible and the law's jerk price costs it about 0.5 mrad whatever it sees). The gap on
+ * lift and twist is what the blender's plan does not yet say: a move that the next chunks reveal, and
+ * accelerate, after the preview was read.
  */
 class DemoOptimumTest {
 
@@ -60,6 +72,17 @@ class DemoOptimumTest {
      */
     static final Map<String, Double> RATIO_MAX = Map.of("slew", 11.0, "lift", 7.5, "reach", 2.8,
             "pitch", 3.5, "roll", 18.0, "twist", 19.0);
+    /**
+     * The issue's aim for RMS(command - plan), rad, met by the same law when its preview is the plan
+     * it is measured against (measured 0.52 to 2.38 mrad).
+     */
+    static final double FORESIGHT_RMS_MAX = 0.005;
+    /**
+     * Regression bound on RMS(law with foresight) / RMS(optimum), about 25 % above the worst of the
+     * four clean episodes measured: slew 3.2, lift 1.6, reach 1.9, pitch 1.5, roll 14.2, twist 2.2.
+     */
+    static final Map<String, Double> FORESIGHT_RATIO_MAX = Map.of("slew", 4.0, "lift", 2.0, "reach", 2.4,
+            "pitch", 2.0, "roll", 18.0, "twist", 2.8);
     /** Largest relative excess of a bound allowed in the optimum's finite differences. */
     static final double VIOLATION_MAX = 1e-3;
     /** Largest relative excess allowed in the limiter's commands for the lower bound to hold. */
@@ -118,8 +141,11 @@ class DemoOptimumTest {
                     bounds.jerk(), dt);
             double[] command = Arrays.copyOfRange(j.command(), first, last + 1);
             double limiterViolation = p.worstViolation(command);
+            double[] foresight = foresight(j.target(), j.command(), first, last, bounds, dt);
+            double foresightViolation = p.worstViolation(foresight);
             Solution s = InteriorPoint.solve(p);
             Certificate c = Certificate.of(p, s.x(), s.y());
+            double rmsForesight = p.rms(foresight);
             double rmsLimiter = p.rms(command);
             double rmsOptimum = p.rms(s.x());
             double ratio = rmsLimiter / rmsOptimum;
@@ -130,8 +156,11 @@ class DemoOptimumTest {
                     name, j.name(), rmsLimiter * 1e3, rmsOptimum * 1e3, c.dualRms(p) * 1e3, ratio, p.n(),
                     s.iterations(), c.relativeGap(), c.worstViolation(), c.relativeStationarity(), limiterViolation,
                     100.0 * p.ticksAtABound(s.x()) / p.n());
+            System.out.printf("demo foresight %s %s: the same law with the realised plan in view %.3f mrad, "
+                            + "%.1f times the optimum (in the runtime %.1f), worst bound excess %.1e%n",
+                    name, j.name(), rmsForesight * 1e3, rmsForesight / rmsOptimum, ratio, foresightViolation);
             figures.put(j.name(), new double[] {rmsLimiter, rmsOptimum, ratio, c.worstViolation(),
-                    c.relativeStationarity(), c.relativeGap(), limiterViolation});
+                    c.relativeStationarity(), c.relativeGap(), limiterViolation, rmsForesight, foresightViolation});
         }
         figures.forEach((joint, f) -> {
             // the optimum is certified: feasible, stationary, and within the duality gap of the minimum
@@ -148,7 +177,74 @@ class DemoOptimumTest {
                     .isLessThanOrEqualTo(f[0]);
             assertThat(f[2]).as("%s %s: RMS(limiter) / RMS(optimum)", name, joint)
                     .isLessThanOrEqualTo(RATIO_MAX.get(joint));
+            // the same law, shown the plan it is measured against: feasible, no better than the
+            // optimum (else the solver is wrong), and within the 5 mrad on every joint
+            assertThat(f[8]).as("%s %s: worst relative bound excess of the law with foresight", name, joint)
+                    .isLessThanOrEqualTo(LIMITER_VIOLATION_MAX);
+            assertThat(f[1]).as("%s %s: RMS of the optimum against the law with foresight", name, joint)
+                    .isLessThanOrEqualTo(f[7]);
+            assertThat(f[7]).as("%s %s: RMS(law with foresight - plan), rad", name, joint)
+                    .isLessThanOrEqualTo(FORESIGHT_RMS_MAX);
+            assertThat(f[7] / f[1]).as("%s %s: RMS(law with foresight) / RMS(optimum)", name, joint)
+                    .isLessThanOrEqualTo(FORESIGHT_RATIO_MAX.get(joint));
         });
+    }
+
+    /**
+     * The runtime's limiter law run offline on one joint with foresight: at each tick {@code k} of
+     * {@code first..last} its preview is the run means of {@code target} itself from {@code k} on (held
+     * at {@code target[last]} past the end), which is the plan the optimum and the tracking test measure
+     * against, and its plan velocity and acceleration are central differences of {@code target}. In the
+     * runtime the preview is the plan the blender holds at {@code k}, which later chunks revise. Starts
+     * from the runtime's command at {@code first - 1}, with velocity and acceleration from its backward
+     * differences.
+     *
+     * @return the commands at ticks {@code first..last}
+     */
+    static double[] foresight(double[] target, double[] command, int first, int last, JointConfig b, double dt) {
+        JerkLimiter limiter = JerkLimiter.create(JointLimits.builder()
+                .joint(b.name(), b.min(), b.max(), b.velocity(), b.acceleration(), b.jerk(), b.margin()).build(), dt);
+        // velocity and acceleration at first - 1 of the cubic through the last four commands: exact
+        // for the limiter's triple integrator while its jerk was constant over those three ticks
+        // (the backward-difference formulas of that cubic, e.g. Fornberg, Math. Comp. 51, 1988)
+        double x0 = command[first - 1];
+        double x1 = command[first - 2];
+        double x2 = command[first - 3];
+        double x3 = command[first - 4];
+        double v0 = (11 * x0 - 18 * x1 + 9 * x2 - 2 * x3) / (6 * dt);
+        double a0 = (2 * x0 - 5 * x1 + 4 * x2 - x3) / (dt * dt);
+        assertThat(limiter.reset(new double[] {command[first - 1]}, new double[] {v0}, new double[] {a0}))
+                .as("%s: the runtime's state before its first armed tick is accepted", b.name()).isTrue();
+        int[] ends = limiter.previewRunEnds();
+        int[] now = new int[1];
+        PlanPreview preview = (joint, out) -> {
+            int start = 0;
+            for (int run = 0; run < ends.length; run++) {
+                double sum = 0;
+                for (int m = start; m < ends[run]; m++) {
+                    sum += target[Math.min(now[0] + m, last)];
+                }
+                out[run] = sum / (ends[run] - start);
+                start = ends[run];
+            }
+            return true;
+        };
+        double[] r = new double[1];
+        double[] v = new double[1];
+        double[] a = new double[1];
+        double[] out = new double[1];
+        double[] x = new double[last - first + 1];
+        for (int k = first; k <= last; k++) {
+            now[0] = k;
+            int ahead = Math.min(k + 1, last);
+            int behind = Math.max(k - 1, first);
+            r[0] = target[k];
+            v[0] = (target[ahead] - target[behind]) / ((ahead - behind) * dt);
+            a[0] = ahead - behind == 2 ? (target[ahead] - 2 * target[k] + target[behind]) / (dt * dt) : 0.0;
+            limiter.apply(r, v, a, preview, out);
+            x[k - first] = out[0];
+        }
+        return x;
     }
 
     /** The demo's slew bounds, for the synthetic plans. */
