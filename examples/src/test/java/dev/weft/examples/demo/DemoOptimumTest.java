@@ -196,8 +196,8 @@ class DemoOptimumTest {
      * at {@code target[last]} past the end), which is the plan the optimum and the tracking test measure
      * against, and its plan velocity and acceleration are central differences of {@code target}. In the
      * runtime the preview is the plan the blender holds at {@code k}, which later chunks revise. Starts
-     * from the runtime's command at {@code first - 1}, with velocity and acceleration from its backward
-     * differences.
+     * from the runtime's command at {@code first - 1}, with the velocity and acceleration there of the
+     * cubic through the runtime's last four commands.
      *
      * @return the commands at ticks {@code first..last}
      */
