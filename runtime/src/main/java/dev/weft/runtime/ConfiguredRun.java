@@ -247,6 +247,9 @@ public final class ConfiguredRun {
                 .armingRamp(rampTime())
                 .armingTimeout(rampTime() + ARMING_GRACE)
                 .queryEveryTicks(t.schedule() == TimingConfig.QuerySchedule.FIXED ? t.everyTicks() : 0)
+                .observationAheadMax(config.watchdog().observationAheadMax())
+                .planRangeSlack(config.watchdog().planRangeSlack())
+                .stallPeriods(config.watchdog().stallPeriods())
                 .spinWindow(t.spinWindow());
         config.telemetry().file().ifPresent(b::telemetry);
         return b;

@@ -12,7 +12,10 @@ import java.util.concurrent.locks.LockSupport;
 /**
  * Carries transitions from the control loop thread to a {@link WeftListener} on a thread of its
  * own, through a preallocated Disruptor ring: the loop side never blocks or allocates; when the
- * ring is full an event is dropped and counted.
+ * ring is full an event is dropped and counted. The ring takes more than one producer: the loop
+ * thread's transitions and the loop monitor's stall alarm. A fault's message carries the loop's
+ * detail for its cause (an exception's class and message, the value out of range) when there is
+ * one.
  */
 final class EventRelay implements TransitionListener, AutoCloseable {
 
@@ -24,12 +27,13 @@ final class EventRelay implements TransitionListener, AutoCloseable {
         int cause;
     }
 
-    private final RingBuffer<Event> ring = RingBuffer.createSingleProducer(Event::new, 1024);
+    private final RingBuffer<Event> ring = RingBuffer.createMultiProducer(Event::new, 1024);
     private final EventPoller<Event> poller = ring.newPoller();
     private final WeftListener listener;
     private final Thread thread;
     private volatile boolean running = true;
-    private volatile long dropped;
+    private final java.util.concurrent.atomic.AtomicLong dropped = new java.util.concurrent.atomic.AtomicLong();
+    private volatile java.util.function.IntFunction<String> details = code -> null;
 
     EventRelay(WeftListener listener) {
         this.listener = listener;
@@ -45,7 +49,7 @@ final class EventRelay implements TransitionListener, AutoCloseable {
         try {
             seq = ring.tryNext();
         } catch (InsufficientCapacityException full) {
-            dropped++;
+            dropped.incrementAndGet();
             return;
         }
         Event e = ring.get(seq);
@@ -58,13 +62,29 @@ final class EventRelay implements TransitionListener, AutoCloseable {
     }
 
     long dropped() {
-        return dropped;
+        return dropped.get();
+    }
+
+    /** Where the delivery thread finds the detail of a cause code (null for none). */
+    void details(java.util.function.IntFunction<String> source) {
+        this.details = source;
+    }
+
+    private String message(int cause) {
+        String base = Cause.message(cause);
+        String d = null;
+        try {
+            d = details.apply(cause);
+        } catch (RuntimeException ignored) {
+            // the static message alone is still true
+        }
+        return d == null ? base : base + ": " + d;
     }
 
     private void deliver() {
         EventPoller.Handler<Event> h = (e, seq, end) -> {
             try {
-                listener.onTransition(e.tick, e.timeNanos, e.from, e.to, e.cause, Cause.message(e.cause));
+                listener.onTransition(e.tick, e.timeNanos, e.from, e.to, e.cause, message(e.cause));
             } catch (RuntimeException ignored) {
                 // a listener's failure must not stop the delivery of later events
             }

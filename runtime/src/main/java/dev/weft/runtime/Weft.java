@@ -171,7 +171,20 @@ public final class Weft implements AutoCloseable {
         return dev.weft.safety.Cause.message(code);
     }
 
-    /** The current state. */
+    /**
+     * The detail of a watchdog code's latest occurrence (an exception's class and message, the
+     * value out of range, where a stalled loop is), or null.
+     */
+    public String faultDetail(int code) {
+        return loop.faultDetail(code);
+    }
+
+    /** Loop-stalled alarms raised so far. */
+    public long stalls() {
+        return loop.stalls();
+    }
+
+    /** The current state ({@link SupervisorState#STALLED} while the loop cannot complete a tick). */
     public SupervisorState state() {
         return loop.state();
     }
@@ -271,6 +284,9 @@ public final class Weft implements AutoCloseable {
         private int[] positionIndex;
         private long firstObservationTimeout = TimeUnit.SECONDS.toNanos(5);
         private boolean armWhenPlanned;
+        private long observationAheadMax = LoopSettings.DEFAULT_OBSERVATION_AHEAD_MAX_NANOS;
+        private double planRangeSlack;
+        private int stallPeriods = LoopSettings.DEFAULT_STALL_PERIODS;
 
         private Builder(JointLimits limits, double period) {
             if (limits == null) {
@@ -414,6 +430,36 @@ public final class Weft implements AutoCloseable {
             return this;
         }
 
+        /**
+         * How far an observation's time stamp may lie ahead of the loop's clock before it is a
+         * fault (a source stamping in another clock domain); default 1 ms.
+         */
+        public Builder observationAheadMax(double seconds) {
+            if (!(seconds >= 0 && seconds < 1e9)) {
+                throw new IllegalArgumentException("observation-ahead tolerance must be >= 0 s, got " + seconds);
+            }
+            this.observationAheadMax = Math.round(seconds * 1e9);
+            return this;
+        }
+
+        /**
+         * How far (position units) a chunk's action may lie outside its joint's position bounds
+         * before the chunk is a policy fault; default 0, any value outside them.
+         */
+        public Builder planRangeSlack(double slack) {
+            this.planRangeSlack = slack;
+            return this;
+        }
+
+        /**
+         * Control periods without a completed tick before the loop monitor raises the
+         * loop-stalled alarm (wall-clock runs); default 3.
+         */
+        public Builder stallPeriods(int periods) {
+            this.stallPeriods = periods;
+            return this;
+        }
+
         /** How long {@link Weft#start()} waits for the first observation; default 5 s. */
         public Builder firstObservationTimeout(double seconds) {
             this.firstObservationTimeout = (long) (seconds * 1e9);
@@ -478,13 +524,18 @@ public final class Weft implements AutoCloseable {
             TransitionListener tl = relay == null ? TransitionListener.NONE : relay;
             LoopSettings settings = new LoopSettings(periodNanos, queryEvery,
                     positionIndex != null ? positionIndex : LoopSettings.leadingPositions(joints), maxTicks,
-                    firstObservationTimeout, TimeUnit.SECONDS.toNanos(10), armWhenPlanned);
+                    firstObservationTimeout, TimeUnit.SECONDS.toNanos(10), armWhenPlanned, observationAheadMax,
+                    planRangeSlack, stallPeriods);
             long timeoutTicks = Math.max(1, Math.round(armingTimeout / period));
             long rampTicks = Math.max(0, Math.round(armingRamp / period));
             ControlLoop loop = new ControlLoop(clock, ws, settings, src, inf, b, smoother, w,
                     pose -> Supervisor.builder(limits, period).stopCategory(stopCategory).maxArmingOffset(armingOffset)
                             .armingTimeoutTicks(timeoutTicks).armingRampTicks(rampTicks).listener(tl).build(pose),
                     stopCategory, port, rec);
+            if (relay != null) {
+                loop.alarmListener(relay);
+                relay.details(loop::faultDetail);
+            }
             return new Weft(this, loop, src, embedded, inf, rec, relay);
         }
     }

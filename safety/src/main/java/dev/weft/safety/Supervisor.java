@@ -70,8 +70,10 @@ public final class Supervisor {
     private int lastFlags;
     private int refusedJoint = -1;
     private JerkLimiter active;
+    private final JointLimits limits;
 
     private Supervisor(Builder b, double[] initialPose) {
+        this.limits = b.limits;
         this.main = JerkLimiter.create(b.limits, b.period);
         this.soft = JerkLimiter.create(b.limits.scaled(b.armVelocity, b.armAcceleration, b.armJerk), b.period);
         this.category = b.category;
@@ -113,6 +115,11 @@ public final class Supervisor {
      */
     public static Builder builder(JointLimits limits, double periodSeconds) {
         return new Builder(limits, periodSeconds);
+    }
+
+    /** The joint limits enforced in every state. */
+    public JointLimits limits() {
+        return limits;
     }
 
     /** Current state. */

@@ -82,7 +82,23 @@ public final class Watchdog {
      */
     public int check(long tick, long observationAgeNanos, int planTicksRemaining, long inferenceLatencyNanos,
                      int consecutiveOverruns, boolean portFault, boolean nonFiniteOutput, boolean operatorStop) {
-        int seen = 0;
+        return check(tick, observationAgeNanos, planTicksRemaining, inferenceLatencyNanos, consecutiveOverruns,
+                portFault, nonFiniteOutput, operatorStop, 0);
+    }
+
+    /**
+     * Checks one tick, with conditions the caller detected itself: the ones this class cannot see
+     * from the figures above (an exception caught in the tick, a telemetry failure, a plan outside
+     * the range, an observation from another clock domain, a stalled loop).
+     *
+     * @param reported bits ({@link WatchdogCondition#bit()}) of the conditions the caller saw at this
+     *     tick, of any condition; they are masked by the enabled conditions like the others
+     * @see #check(long, long, int, long, int, boolean, boolean, boolean)
+     */
+    public int check(long tick, long observationAgeNanos, int planTicksRemaining, long inferenceLatencyNanos,
+                     int consecutiveOverruns, boolean portFault, boolean nonFiniteOutput, boolean operatorStop,
+                     int reported) {
+        int seen = reported;
         if (operatorStop) {
             seen |= WatchdogCondition.OPERATOR_STOP.bit();
         }

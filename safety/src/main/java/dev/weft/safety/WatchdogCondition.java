@@ -21,7 +21,23 @@ public enum WatchdogCondition {
     /** Inference took longer than its bound. */
     INFERENCE_LATE(7, "inference latency is above its bound"),
     /** The loop overran its deadline too many ticks in a row. */
-    LOOP_OVERRUNS(8, "too many consecutive loop overruns");
+    LOOP_OVERRUNS(8, "too many consecutive loop overruns"),
+    /** The policy threw an exception (its class and message go with the event as the detail). */
+    POLICY_FAILED(9, "policy raised an exception"),
+    /** The telemetry recorder could not write a row (disk full, I/O error). */
+    TELEMETRY_FAULT(10, "telemetry write failed"),
+    /** The command port threw an exception from one of its calls. */
+    PORT_EXCEPTION(11, "command port threw an exception"),
+    /** A step of the control tick other than the policy or the port threw (a smoother, a source, user code). */
+    TICK_EXCEPTION(12, "a step of the control tick threw an exception"),
+    /** A chunk holds an action outside the joint's position range by more than the configured distance. */
+    PLAN_OUT_OF_RANGE(13, "policy plan lies outside the joint range"),
+    /** The observation's time stamp is ahead of the loop's clock by more than the tolerance. */
+    OBSERVATION_AHEAD(14, "observation time is ahead of the loop clock (a time stamp from another clock domain?)"),
+    /** The observation holds NaN or an infinity. */
+    NON_FINITE_OBSERVATION(15, "observation contained NaN or an infinity"),
+    /** The loop did not complete a tick within the stall bound (raised by the loop's monitor thread). */
+    LOOP_STALLED(16, "control loop stalled: a tick did not complete in time");
 
     private static final WatchdogCondition[] BY_CODE = new WatchdogCondition[values().length + 1];
 
@@ -39,7 +55,7 @@ public enum WatchdogCondition {
         this.message = message;
     }
 
-    /** Code of this condition, 1 to 8; 0 is never used by a condition and means "none". */
+    /** Code of this condition, 1 to 16; 0 is never used by a condition and means "none". */
     public int code() {
         return code;
     }

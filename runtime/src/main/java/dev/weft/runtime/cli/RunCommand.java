@@ -128,6 +128,11 @@ final class RunCommand implements Callable<Integer> {
         out.printf(Locale.ROOT, "ended %s after %d ticks: %d overruns, %d deadlines skipped, %d chunks, %d inference"
                         + " failures, %d frames dropped by the port, %d telemetry rows lost%n", s.state(), s.ticks(),
                 s.overruns(), s.skipped(), s.chunksAccepted(), s.inferenceFailures(), s.portDropped(), s.telemetryLost());
+        int cause = weft.loop().supervisor() == null ? 0 : weft.loop().supervisor().latchedCause();
+        if (cause != 0) {
+            String detail = weft.faultDetail(cause);
+            out.println("stopped by: " + Weft.describe(cause) + (detail == null ? "" : " (" + detail + ")"));
+        }
         if (weft.loop().failure() != null) {
             out.println("the loop ended on an error: " + weft.loop().failure());
             exit = WeftCommand.VERDICT_FAILED;

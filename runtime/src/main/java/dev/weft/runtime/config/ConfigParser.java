@@ -483,6 +483,9 @@ final class ConfigParser {
         planRemainingMin = remaining;
         inferenceLatencyMax = latency;
         Integer overruns = s.count("overruns_max", null, 1);
+        Double ahead = s.nonNegative("observation_ahead_max", WatchdogConfig.DEFAULT_OBSERVATION_AHEAD_MAX);
+        Double slack = s.nonNegative("plan_range_slack", 0.0);
+        Integer stall = s.count("stall_periods", WatchdogConfig.DEFAULT_STALL_PERIODS, 1);
         List<WatchdogConfig.Disabled> disabled = new ArrayList<>();
         Map<String, JsonNode> list = s.list("disabled", false);
         if (list != null) {
@@ -517,7 +520,7 @@ final class ConfigParser {
         if (r.count() != before) {
             return null;
         }
-        return new WatchdogConfig(age, remaining, latency, overruns, disabled);
+        return new WatchdogConfig(age, remaining, latency, overruns, disabled, ahead, slack, stall);
     }
 
     private static WatchdogConfig.Condition[] disableable() {

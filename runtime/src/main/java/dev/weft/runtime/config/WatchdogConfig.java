@@ -12,9 +12,28 @@ import java.util.Set;
  * @param inferenceLatencyMax longest an inference request may take, {@code > 0}
  * @param overrunsMax consecutive ticks that may miss their deadline, {@code >= 1}
  * @param disabled the conditions switched off, each with its reason, in the order given
+ * @param observationAheadMax how far an observation's time stamp may lie ahead of the loop's clock
+ *     before it is a fault (another clock domain), {@code >= 0}
+ * @param planRangeSlack how far a chunk's action may lie outside its joint's position bounds
+ *     before the chunk is a policy fault, {@code >= 0} (position units)
+ * @param stallPeriods control periods without a completed tick before the loop monitor raises the
+ *     loop-stalled alarm, {@code >= 1}
  */
 public record WatchdogConfig(double observationAgeMax, double planRemainingMin, double inferenceLatencyMax,
-                             int overrunsMax, List<Disabled> disabled) {
+                             int overrunsMax, List<Disabled> disabled, double observationAheadMax,
+                             double planRangeSlack, int stallPeriods) {
+
+    /** Default of {@link #observationAheadMax()}, seconds. */
+    public static final double DEFAULT_OBSERVATION_AHEAD_MAX = 0.001;
+    /** Default of {@link #stallPeriods()}. */
+    public static final int DEFAULT_STALL_PERIODS = 3;
+
+    /** The bounds with the defaults for the observation-ahead tolerance, the plan range slack and the stall bound. */
+    public WatchdogConfig(double observationAgeMax, double planRemainingMin, double inferenceLatencyMax,
+                          int overrunsMax, List<Disabled> disabled) {
+        this(observationAgeMax, planRemainingMin, inferenceLatencyMax, overrunsMax, disabled,
+                DEFAULT_OBSERVATION_AHEAD_MAX, 0.0, DEFAULT_STALL_PERIODS);
+    }
 
     /** The conditions the watchdog checks, with the names configuration uses. */
     public enum Condition {

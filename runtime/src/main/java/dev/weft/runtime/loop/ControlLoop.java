@@ -14,8 +14,10 @@ import dev.weft.safety.Supervisor;
 import dev.weft.safety.SupervisorState;
 import dev.weft.safety.TransitionListener;
 import dev.weft.safety.Watchdog;
+import dev.weft.safety.WatchdogCondition;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicLong;
+import java.util.concurrent.atomic.AtomicReferenceArray;
 import java.util.concurrent.locks.LockSupport;
 import java.util.function.Function;
 import org.HdrHistogram.Histogram;
@@ -63,6 +65,11 @@ public final class ControlLoop implements AutoCloseable {
     public static final int COMMAND_TIMED_OUT = -1;
     /** Result of a command given when the loop is not running. */
     public static final int NOT_RUNNING = -2;
+    /**
+     * Between ticks the loop thread only waits for its deadline; a wait longer than the stall
+     * bound by this margin means the thread is not being run at all.
+     */
+    static final long IDLE_STALL_MARGIN_NANOS = TimeUnit.MILLISECONDS.toNanos(250);
 
     private final LoopClock clock;
     private final WaitStrategy wait;
@@ -131,6 +138,36 @@ public final class ControlLoop implements AutoCloseable {
     private long shutdownDeadline = -1;
     private boolean autoArmPending;
     private volatile int autoArmResult = Integer.MIN_VALUE;
+    /** The next tick at which a query is due ({@link LoopSettings#queryEveryTicks()} > 0). */
+    private long nextQueryTick;
+    /** Watchdog bits of the conditions the loop itself saw this tick, before the watchdog check. */
+    private int reportedNow;
+    /** Bits seen after the check (the command had gone out): reported at the next tick's check. */
+    private int reportedNext;
+    /** What the loop reported at the previous check: a detail is written when a condition begins. */
+    private int lastReported;
+    private int consecutiveSupervisorFaults;
+    private int consecutiveEscapes;
+    /** A tick that throws past every guard this many times in a row ends the loop (with the alarm). */
+    private static final int ESCAPES_MAX = 3;
+    private double[] rangeLow;
+    private double[] rangeHigh;
+    private String[] limitNames;
+
+    // fault details and the loop monitor
+    /** Detail text of each watchdog code's latest occurrence (index = code), written when it begins. */
+    private final AtomicReferenceArray<String> details = new AtomicReferenceArray<>(WatchdogCondition.values().length + 1);
+    /** Clock time at the end of the last completed tick (wall-clock runs), read by the monitor. */
+    private final AtomicLong progressNanos = new AtomicLong();
+    /** When the tick in progress began its work (after its wait); greater than progressNanos while in a tick. */
+    private final AtomicLong tickBeganNanos = new AtomicLong();
+    private final AtomicLong tickFaults = new AtomicLong();
+    private final AtomicLong stalls = new AtomicLong();
+    private final AtomicLong rejectedChunks = new AtomicLong();
+    private volatile boolean stallActive;
+    private volatile boolean stallPending;
+    private volatile TransitionListener alarmListener = TransitionListener.NONE;
+    private Thread monitor;
 
     // published counters (written by the loop thread with release semantics)
     private final AtomicLong ticks = new AtomicLong();
@@ -223,7 +260,14 @@ public final class ControlLoop implements AutoCloseable {
     public void start(String threadName) {
         prepare();
         thread = new Thread(this::run, threadName);
+        // a loop thread stuck in a port must not keep the process alive after the run is given up
+        thread.setDaemon(true);
         thread.start();
+        if (!virtualTime) {
+            monitor = new Thread(this::watchLoop, threadName + "-monitor");
+            monitor.setDaemon(true);
+            monitor.start();
+        }
     }
 
     /** Everything {@link #start} does but starting the thread; tests then call {@link #runTick()}. */
@@ -246,11 +290,24 @@ public final class ControlLoop implements AutoCloseable {
         }
         supervisor = supervisorFactory.apply(measured.clone());
         preview.runEnds = supervisor.previewRunEnds();
+        dev.weft.safety.JointLimits limits = supervisor.limits();
+        if (limits.count() != joints) {
+            throw new IllegalArgumentException("the supervisor has " + limits.count() + " joints, the blender " + joints);
+        }
+        rangeLow = new double[joints];
+        rangeHigh = new double[joints];
+        limitNames = new String[joints];
+        for (int i = 0; i < joints; i++) {
+            rangeLow[i] = limits.positionMin(i) - settings.planRangeSlack();
+            rangeHigh[i] = limits.positionMax(i) + settings.planRangeSlack();
+            limitNames[i] = limits.name(i);
+        }
         System.arraycopy(measured, 0, command, 0, joints);
         System.arraycopy(measured, 0, previousCommand, 0, joints);
         autoArmPending = settings.armWhenPlanned();
         running = true;
         t0 = clock.nanoTime();
+        progressNanos.set(t0);
     }
 
     /**
@@ -274,8 +331,81 @@ public final class ControlLoop implements AutoCloseable {
             }
         } catch (Throwable t) {
             failure = t;
+            // the loop cannot go on: no command goes out from here, so raise the alarm now
+            raiseStall(tick, "the loop thread ended: " + t);
         } finally {
             running = false;
+        }
+    }
+
+    /**
+     * The loop monitor (wall-clock runs only): raises the loop-stalled alarm when a tick has been
+     * at work for more than {@link LoopSettings#stallPeriods()} periods without completing (a port,
+     * a source or a callback blocking), or when no tick has begun for that bound plus
+     * {@link #IDLE_STALL_MARGIN_NANOS} (a loop thread that does not wake at all); clears the
+     * alarm's state once ticks complete again (the supervisor has latched the fault by then). A
+     * loop that is merely woken late between ticks is not stalled: that is an overrun, counted
+     * and bounded by the watchdog's overrun condition.
+     */
+    private void watchLoop() {
+        long bound = settings.stallPeriods() * period;
+        long poll = Math.max(TimeUnit.MICROSECONDS.toNanos(100), Math.min(period / 2, TimeUnit.MILLISECONDS.toNanos(5)));
+        long seen = progressNanos.get();
+        while (running) {
+            LockSupport.parkNanos(poll);
+            long last = progressNanos.get();
+            if (stallActive) {
+                if (last != seen) {
+                    stallActive = false;
+                }
+            } else {
+                long began = tickBeganNanos.get();
+                long now = clock.nanoTime();
+                boolean inTick = began > last;
+                long gap = inTick ? now - began : now - last;
+                long limit = inTick ? bound : bound + IDLE_STALL_MARGIN_NANOS;
+                if (gap > limit && running) {
+                    raiseStall(tick, (inTick ? "tick " + tick + " has been at work for " : "no tick has begun for ")
+                            + String.format(java.util.Locale.ROOT, "%.1f", gap / 1e6) + " ms (bound "
+                            + settings.stallPeriods() + " periods = "
+                            + String.format(java.util.Locale.ROOT, "%.1f", bound / 1e6) + " ms"
+                            + (inTick ? "" : " + " + IDLE_STALL_MARGIN_NANOS / 1_000_000 + " ms")
+                            + "); the loop thread is at " + topFrame());
+                }
+            }
+            seen = last;
+        }
+    }
+
+    private String topFrame() {
+        Thread t = thread;
+        StackTraceElement[] st = t == null ? new StackTraceElement[0] : t.getStackTrace();
+        for (StackTraceElement e : st) {
+            String c = e.getClassName();
+            if (!c.startsWith("java.") && !c.startsWith("jdk.") && !c.startsWith("sun.")) {
+                return e.toString();
+            }
+        }
+        return st.length > 0 ? st[0].toString() : "an unknown place";
+    }
+
+    /** Raises the loop-stalled alarm: the state, the event, the port's hook, the counter. Any thread. */
+    private synchronized void raiseStall(long atTick, String why) {
+        details.set(WatchdogCondition.LOOP_STALLED.code(), why);
+        stalls.incrementAndGet();
+        stallActive = true;
+        stallPending = true;
+        SupervisorState from = state;
+        try {
+            alarmListener.onTransition(atTick, atTick * period, from, SupervisorState.STALLED,
+                    WatchdogCondition.LOOP_STALLED.code());
+        } catch (RuntimeException ignored) {
+            // an alarm listener's failure must not stop the port from hearing of the stall
+        }
+        try {
+            port.loopStalled(atTick);
+        } catch (Throwable ignored) {
+            // documented: the hook's exceptions are ignored
         }
     }
 
@@ -291,55 +421,138 @@ public final class ControlLoop implements AutoCloseable {
         return clock.nanoTime() > shutdownDeadline;
     }
 
-    /** One tick; package-visible for tests that drive the loop on their own thread. */
+    /**
+     * One tick; package-visible for tests that drive the loop on their own thread. Every step is
+     * guarded: an exception becomes its own watchdog cause (policy, port, telemetry, any other step)
+     * with its class and message kept as the detail, and the tick still ends with its command sent
+     * (where the port can take it), its telemetry row and the next deadline.
+     */
     void runTick() {
         long n = tick;
+        try {
+            tickBody(n);
+            consecutiveEscapes = 0;
+        } catch (Throwable t) {
+            // only a failure of the guards themselves gets here (an Error while building a detail,
+            // say); the next tick reports it, and a loop that cannot get through a tick at all
+            // gives up with the loop-stalled alarm rather than spin
+            tickFaults.lazySet(tickFaults.get() + 1);
+            reportedNext |= WatchdogCondition.TICK_EXCEPTION.bit();
+            if (++consecutiveEscapes >= ESCAPES_MAX) {
+                throw new IllegalStateException("control tick " + n + " failed " + consecutiveEscapes
+                        + " times in a row: " + t, t);
+            }
+        } finally {
+            advance(n);
+        }
+    }
+
+    private void tickBody(long n) {
         long deadline = t0 + n * period;
         wait.awaitDeadline(clock, deadline);
         long start = clock.nanoTime();
+        if (!virtualTime) {
+            tickBeganNanos.lazySet(start);
+        }
         long lateness = start - deadline;
+        reportedNow = 0;
 
-        // 1 observation
-        long obsTime = source.latest(observation);
+        // 1 observation: stamped in the loop's clock, checked before anything uses it
+        long obsTime;
+        try {
+            obsTime = source.latest(observation);
+        } catch (Throwable t) {
+            obsTime = -1;
+            fault(WatchdogCondition.TICK_EXCEPTION, "observation source", t);
+        }
+        boolean usable = obsTime >= 0;
+        // compared with the clock read after the source answered: a source that stamps with the
+        // loop's clock while it answers may be later than the tick's start by a preemption
+        long ahead;
+        if (usable && obsTime - start > settings.observationAheadMaxNanos()
+                && (ahead = obsTime - clock.nanoTime()) > settings.observationAheadMaxNanos()) {
+            usable = false;
+            if (begins(WatchdogCondition.OBSERVATION_AHEAD)) {
+                detail(WatchdogCondition.OBSERVATION_AHEAD, "the observation is stamped "
+                        + String.format(java.util.Locale.ROOT, "%.3f", ahead / 1e6)
+                        + " ms ahead of the loop clock (tolerance "
+                        + String.format(java.util.Locale.ROOT, "%.3f", settings.observationAheadMaxNanos() / 1e6)
+                        + " ms): the source must stamp samples with the loop's clock (System.nanoTime), not wall-clock"
+                        + " or another machine's time");
+            }
+            reportedNow |= WatchdogCondition.OBSERVATION_AHEAD.bit();
+        }
+        if (usable) {
+            int bad = firstNonFinite(observation);
+            if (bad >= 0) {
+                usable = false;
+                if (begins(WatchdogCondition.NON_FINITE_OBSERVATION)) {
+                    detail(WatchdogCondition.NON_FINITE_OBSERVATION, "observation value " + bad + " is "
+                            + observation[bad] + " (from " + source.describe() + ")");
+                }
+                reportedNow |= WatchdogCondition.NON_FINITE_OBSERVATION.bit();
+            }
+        }
         long obsAge = obsTime < 0 ? -1 : Math.max(0, start - obsTime);
 
         handleCommand(n, deadline);
 
-        // 2 inference request on schedule
+        // 2 inference request on schedule: a due query whose tick was skipped is made at the next
+        // tick that runs, never lost
         int every = settings.queryEveryTicks();
-        boolean due = every > 0 ? n % every == 0 : worker.idle();
-        if (obsTime >= 0 && due) {
-            worker.request(observation, n);
-            if (requestedAtNanos < 0) {
-                requestedAtNanos = start;
+        try {
+            boolean due = every > 0 ? n >= nextQueryTick : worker.idle();
+            if (usable && due) {
+                worker.request(observation, n);
+                if (every > 0) {
+                    nextQueryTick = (n / every + 1) * every;
+                }
+                if (requestedAtNanos < 0) {
+                    requestedAtNanos = start;
+                }
             }
+        } catch (Throwable t) {
+            fault(WatchdogCondition.TICK_EXCEPTION, "inference request", t);
         }
 
         // 3 finished chunks
         nonFiniteThisTick = false;
         sink.now = n;
-        worker.drain(n, sink);
+        try {
+            worker.drain(n, sink);
+        } catch (Throwable t) {
+            fault(WatchdogCondition.TICK_EXCEPTION, "inference drain", t);
+        }
 
         // 4 the plan's state at this tick, 5 smoothing
-        boolean planned = blender.stateAt(n, target, targetVelocity, targetAcceleration);
-        long remaining = blender.ticksRemaining(n);
-        preview.tick = n;
+        boolean planned;
+        long remaining;
+        try {
+            planned = blender.stateAt(n, target, targetVelocity, targetAcceleration);
+            remaining = blender.ticksRemaining(n);
+            preview.tick = n;
+            if (planned) {
+                // the blender speaks per control tick; the limiter per second
+                for (int i = 0; i < joints; i++) {
+                    targetVelocity[i] *= tickRate;
+                    targetAcceleration[i] *= tickRate * tickRate;
+                }
+                if (smoother != null) {
+                    smoother.apply(target, target);
+                    velocitySmoother.apply(targetVelocity, targetVelocity);
+                    accelerationSmoother.apply(targetAcceleration, targetAcceleration);
+                }
+            }
+        } catch (Throwable t) {
+            planned = false;
+            remaining = 0;
+            fault(WatchdogCondition.TICK_EXCEPTION, smoother == null ? "blender" : "blender or smoother", t);
+        }
         if (!planned) {
             for (int i = 0; i < joints; i++) {
                 target[i] = Double.NaN;
                 targetVelocity[i] = 0.0;
                 targetAcceleration[i] = 0.0;
-            }
-        } else {
-            // the blender speaks per control tick; the limiter per second
-            for (int i = 0; i < joints; i++) {
-                targetVelocity[i] *= tickRate;
-                targetAcceleration[i] *= tickRate * tickRate;
-            }
-            if (smoother != null) {
-                smoother.apply(target, target);
-                velocitySmoother.apply(targetVelocity, targetVelocity);
-                accelerationSmoother.apply(targetAcceleration, targetAcceleration);
             }
         }
 
@@ -351,19 +564,61 @@ public final class ControlLoop implements AutoCloseable {
             autoArmResult = supervisor.arm(n, deadline - t0, measured, target);
         }
 
-        // 7 watchdog (before the supervisor, so a fault seen at tick n shapes tick n's command)
+        // 7 watchdog (before the supervisor, so a fault seen at tick n shapes tick n's command);
+        // faults seen after the command went out (port, telemetry) arrive through reportedNext
+        boolean portFault;
+        try {
+            portFault = port.faulted();
+        } catch (Throwable t) {
+            portFault = false;
+            fault(WatchdogCondition.PORT_EXCEPTION, "port.faulted()", t);
+        }
+        if (telemetry != null && telemetry.faulted()) {
+            if (begins(WatchdogCondition.TELEMETRY_FAULT)) {
+                detail(WatchdogCondition.TELEMETRY_FAULT, "the telemetry recorder could not write to "
+                        + telemetry.file());
+            }
+            reportedNow |= WatchdogCondition.TELEMETRY_FAULT.bit();
+        }
+        if (stallPending) {
+            stallPending = false;
+            reportedNow |= WatchdogCondition.LOOP_STALLED.bit();
+        }
+        int reported = reportedNow | reportedNext;
+        reportedNext = 0;
         long inFlight = requestedAtNanos >= 0 ? start - requestedAtNanos : 0;
         long latency = Math.max(lastLatencyNanos, inFlight);
-        boolean portFault = port.faulted() || (telemetry != null && telemetry.faulted());
         int code = watchdog.check(n, obsAge, (int) Math.min(remaining, Integer.MAX_VALUE), latency,
                 (int) Math.min(consecutiveOverruns, Integer.MAX_VALUE), portFault, nonFiniteThisTick,
-                operatorStopRequested);
+                operatorStopRequested, reported);
+        lastReported = reported;
 
         // 6 limiter, inside the supervisor: hold when disarmed or faulted, soft start, stop. Without
         // a plan the target is NaN, which the supervisor treats as a fault while moving and ignores
         // while holding, so starvation stops the robot even with PLAN_STARVED switched off.
-        SupervisorState s = supervisor.step(n, deadline - t0, target, targetVelocity, targetAcceleration,
-                planned && smoother == null ? preview : null, code, command);
+        SupervisorState s;
+        boolean supervised;
+        try {
+            s = supervisor.step(n, deadline - t0, target, targetVelocity, targetAcceleration,
+                    planned && smoother == null ? preview : null, code, command);
+            supervised = true;
+            consecutiveSupervisorFaults = 0;
+        } catch (Throwable t) {
+            // the safety core itself failed: no command it did not compute goes out; the drives'
+            // own timeouts take over while the next tick tries again with the fault, and a core
+            // that keeps failing ends the loop with the loop-stalled alarm
+            s = supervisor.state();
+            supervised = false;
+            tickFaults.lazySet(tickFaults.get() + 1);
+            if (begins(WatchdogCondition.TICK_EXCEPTION)) {
+                detail(WatchdogCondition.TICK_EXCEPTION, "supervisor: " + t);
+            }
+            reportedNext |= WatchdogCondition.TICK_EXCEPTION.bit();
+            if (++consecutiveSupervisorFaults > settings.stallPeriods()) {
+                throw new IllegalStateException("the supervisor failed " + consecutiveSupervisorFaults
+                        + " ticks in a row, the last at tick " + n + ": " + t, t);
+            }
+        }
 
         // 8 emit (invariant 2: nothing non-finite reaches the port)
         frame.tick = n;
@@ -374,7 +629,7 @@ public final class ControlLoop implements AutoCloseable {
                 : CommandFrame.STOP_NONE;
         frame.removePower = supervisor.powerRemovalRequested();
         frame.limiterFlags = supervisor.limiterFlags();
-        boolean finite = true;
+        boolean finite = supervised;
         for (int i = 0; i < joints; i++) {
             double q = command[i];
             // the velocity sent is the finite difference of the commands, the quantity the
@@ -387,9 +642,20 @@ public final class ControlLoop implements AutoCloseable {
         if (finite) {
             System.arraycopy(command, 0, previousCommand, 0, joints);
         }
-        boolean emitted = finite && port.emit(frame);
-        if (follower != null && finite) {
-            follower.followed(frame);
+        boolean emitted = false;
+        if (finite) {
+            try {
+                emitted = port.emit(frame);
+            } catch (Throwable t) {
+                postFault(WatchdogCondition.PORT_EXCEPTION, "port.emit", t);
+            }
+            if (follower != null) {
+                try {
+                    follower.followed(frame);
+                } catch (Throwable t) {
+                    postFault(WatchdogCondition.TICK_EXCEPTION, "observation source (followed)", t);
+                }
+            }
         }
 
         long end = clock.nanoTime();
@@ -404,25 +670,29 @@ public final class ControlLoop implements AutoCloseable {
 
         // 9 telemetry
         if (telemetry != null) {
-            // on virtual time there is no deadline to keep: wait for the recorder rather than lose a row
-            TelemetryRow row = virtualTime ? telemetry.claimWaiting() : telemetry.claim();
-            if (row != null) {
-                row.tick = n;
-                row.timeNanos = deadline - t0;
-                row.periodErrorNanos = lateness;
-                row.computeNanos = computeNanos;
-                row.state = s.ordinal();
-                row.watchdogMask = watchdog.activeMask();
-                row.limiterFlags = supervisor.limiterFlags();
-                row.planTicks = remaining;
-                row.chunkAgeTicks = newestOrigin < 0 ? -1 : n - newestOrigin;
-                row.emitted = emitted;
-                System.arraycopy(target, 0, row.target, 0, joints);
-                System.arraycopy(command, 0, row.command, 0, joints);
-                for (int i = 0; i < joints; i++) {
-                    row.jointFlags[i] = supervisor.limiterFlags(i);
+            try {
+                // on virtual time there is no deadline to keep: wait for the recorder rather than lose a row
+                TelemetryRow row = virtualTime ? telemetry.claimWaiting() : telemetry.claim();
+                if (row != null) {
+                    row.tick = n;
+                    row.timeNanos = deadline - t0;
+                    row.periodErrorNanos = lateness;
+                    row.computeNanos = computeNanos;
+                    row.state = s.ordinal();
+                    row.watchdogMask = watchdog.activeMask();
+                    row.limiterFlags = supervisor.limiterFlags();
+                    row.planTicks = remaining;
+                    row.chunkAgeTicks = newestOrigin < 0 ? -1 : n - newestOrigin;
+                    row.emitted = emitted;
+                    System.arraycopy(target, 0, row.target, 0, joints);
+                    System.arraycopy(command, 0, row.command, 0, joints);
+                    for (int i = 0; i < joints; i++) {
+                        row.jointFlags[i] = supervisor.limiterFlags(i);
+                    }
+                    telemetry.publish();
                 }
-                telemetry.publish();
+            } catch (Throwable t) {
+                postFault(WatchdogCondition.TELEMETRY_FAULT, "telemetry hand-over", t);
             }
         }
 
@@ -432,8 +702,10 @@ public final class ControlLoop implements AutoCloseable {
         planTicks.lazySet(remaining);
         watchdogMask.lazySet(watchdog.activeMask());
         ticks.lazySet(ticks.get() + 1);
+    }
 
-        // next tick: the one whose deadline passed last, never one already past by a period
+    /** Next tick: the one whose deadline passed last, never one already past by a period. */
+    private void advance(long n) {
         long next = n + 1;
         long now = clock.nanoTime();
         long behind = (now - t0) / period;
@@ -442,6 +714,45 @@ public final class ControlLoop implements AutoCloseable {
             next = behind;
         }
         tick = next;
+        if (!virtualTime) {
+            progressNanos.lazySet(now);
+        }
+    }
+
+    private static int firstNonFinite(double[] values) {
+        for (int i = 0; i < values.length; i++) {
+            if (!Double.isFinite(values[i])) {
+                return i;
+            }
+        }
+        return -1;
+    }
+
+    /** Whether {@code c} was absent at the last check and not yet reported this tick: its detail is written then, once. */
+    private boolean begins(WatchdogCondition c) {
+        return ((lastReported | reportedNow | reportedNext) & c.bit()) == 0;
+    }
+
+    private void detail(WatchdogCondition c, String text) {
+        details.set(c.code(), text);
+    }
+
+    /** A fault seen before this tick's watchdog check: it shapes this tick's command. */
+    private void fault(WatchdogCondition c, String step, Throwable t) {
+        tickFaults.lazySet(tickFaults.get() + 1);
+        if (begins(c)) {
+            detail(c, step + ": " + t);
+        }
+        reportedNow |= c.bit();
+    }
+
+    /** A fault seen after this tick's command was computed: the next tick's watchdog reports it. */
+    private void postFault(WatchdogCondition c, String step, Throwable t) {
+        tickFaults.lazySet(tickFaults.get() + 1);
+        if (begins(c)) {
+            detail(c, step + ": " + t);
+        }
+        reportedNext |= c.bit();
     }
 
     private static long clamp(long v) {
@@ -487,8 +798,30 @@ public final class ControlLoop implements AutoCloseable {
             requestedAtNanos = worker.idle() ? -1 : clock.nanoTime();
             inference.recordValue(clamp(latencyNanos));
             if (status != OK) {
-                nonFiniteThisTick = true;
                 inferenceFailures.lazySet(inferenceFailures.get() + 1);
+                if (status == FAILED) {
+                    if (begins(WatchdogCondition.POLICY_FAILED)) {
+                        String why = worker.lastFailure();
+                        detail(WatchdogCondition.POLICY_FAILED, "chunk from tick " + originTick + ": "
+                                + (why == null ? "no detail kept" : why));
+                    }
+                    reportedNow |= WatchdogCondition.POLICY_FAILED.bit();
+                } else {
+                    nonFiniteThisTick = true;
+                }
+                return;
+            }
+            int outside = outsideRange(chunk, steps);
+            if (outside >= 0) {
+                if (begins(WatchdogCondition.PLAN_OUT_OF_RANGE)) {
+                    int j = outside % joints;
+                    detail(WatchdogCondition.PLAN_OUT_OF_RANGE, "chunk from tick " + originTick + ", action "
+                            + outside / joints + ": joint " + limitNames[j] + " = " + chunk[outside] + " lies outside ["
+                            + rangeLow[j] + ", " + rangeHigh[j] + "] (position bounds widened by the slack of "
+                            + settings.planRangeSlack() + ")");
+                }
+                reportedNow |= WatchdogCondition.PLAN_OUT_OF_RANGE.bit();
+                rejectedChunks.lazySet(rejectedChunks.get() + 1);
                 return;
             }
             int r = blender.accept(chunk, steps, originTick, now);
@@ -498,6 +831,19 @@ public final class ControlLoop implements AutoCloseable {
                 newestOrigin = Math.max(newestOrigin, originTick);
             }
         }
+    }
+
+    /** Index of the first value of the chunk outside its joint's widened position range, or -1 (NaN is left to the blender). */
+    private int outsideRange(double[] chunk, int steps) {
+        int n = steps * joints;
+        for (int k = 0; k < n; k++) {
+            double x = chunk[k];
+            int j = k % joints;
+            if (x < rangeLow[j] || x > rangeHigh[j]) {
+                return k;
+            }
+        }
+        return -1;
     }
 
     // ------------------------------------------------------------------ commands from other threads
@@ -593,9 +939,45 @@ public final class ControlLoop implements AutoCloseable {
         return supervisor;
     }
 
-    /** The current state as last published by the loop thread. */
+    /**
+     * The current state as last published by the loop thread, or {@link SupervisorState#STALLED}
+     * while the monitor sees the loop stalled and once the loop thread has ended abnormally.
+     */
     public SupervisorState state() {
-        return state;
+        return stallActive || failure != null ? SupervisorState.STALLED : state;
+    }
+
+    /**
+     * Where loop-stalled alarms go (from the monitor's thread, or the loop thread when it ends
+     * abnormally): the transition from the state last published to {@link SupervisorState#STALLED},
+     * cause {@link WatchdogCondition#LOOP_STALLED}. Set before {@link #start}; the listener must
+     * accept calls from more than one thread.
+     */
+    public void alarmListener(TransitionListener listener) {
+        this.alarmListener = listener == null ? TransitionListener.NONE : listener;
+    }
+
+    /**
+     * The detail of a watchdog code's latest occurrence (an exception's class and message, the
+     * value out of range, the stall's place), or null when it has none. Any thread.
+     */
+    public String faultDetail(int code) {
+        return code > 0 && code < details.length() ? details.get(code) : null;
+    }
+
+    /** Exceptions caught in the tick so far (each became a watchdog cause). */
+    public long tickFaults() {
+        return tickFaults.get();
+    }
+
+    /** Loop-stalled alarms raised so far. */
+    public long stalls() {
+        return stalls.get();
+    }
+
+    /** Chunks refused because an action lay outside the joint range. */
+    public long rejectedChunks() {
+        return rejectedChunks.get();
     }
 
     /** A snapshot of the loop's counters. Any thread. */
@@ -625,16 +1007,30 @@ public final class ControlLoop implements AutoCloseable {
                 new Histogram(HISTOGRAM_MAX_NANOS, 3));
     }
 
-    /** Shuts down, waits for the loop thread and stops the worker; idempotent. Does not close the port. */
+    /**
+     * Shuts down, waits for the loop thread and stops the worker; idempotent. Does not close the port.
+     *
+     * @throws IllegalStateException when the loop thread did not end in time (stuck in a port or a
+     *     callback); the message says where it is
+     */
     @Override
     public void close() {
         shutdown();
+        boolean ended;
         try {
-            awaitEnd(settings.shutdownStopTimeoutNanos() + TimeUnit.SECONDS.toNanos(5));
+            // a stalled loop will not come back for a stop: do not wait the stop's timeout for it
+            long wait = stallActive ? TimeUnit.SECONDS.toNanos(1)
+                    : settings.shutdownStopTimeoutNanos() + TimeUnit.SECONDS.toNanos(5);
+            ended = awaitEnd(wait);
         } catch (InterruptedException e) {
             Thread.currentThread().interrupt();
+            ended = thread == null || !thread.isAlive();
         }
         worker.close();
+        if (!ended) {
+            throw new IllegalStateException("the control loop thread " + thread.getName() + " did not end; it is at "
+                    + topFrame() + " (tick " + tick + "); no command goes out from it");
+        }
     }
 
     /** The blender's plan ahead of the current tick, read per joint when the limiter asks for it. */

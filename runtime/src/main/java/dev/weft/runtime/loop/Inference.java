@@ -20,6 +20,14 @@ public interface Inference extends AutoCloseable {
     /** Delivers every result ready at {@code nowTick} to {@code sink}; returns how many. */
     int drain(long nowTick, ChunkSink sink);
 
+    /**
+     * The latest policy failure as text (the exception's class and message), or null; read after a
+     * result with status {@link ChunkSink#FAILED}. May be read from the loop thread.
+     */
+    default String lastFailure() {
+        return null;
+    }
+
     /** Stops; idempotent. */
     @Override
     void close();

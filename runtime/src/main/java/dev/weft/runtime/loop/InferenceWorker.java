@@ -249,6 +249,7 @@ public final class InferenceWorker implements Inference {
     }
 
     /** The latest policy failure as text, or null. */
+    @Override
     public String lastFailure() {
         return lastFailure;
     }

@@ -121,6 +121,7 @@ public final class ModelledLatencyInference implements Inference {
     }
 
     /** The latest policy failure as text, or null. */
+    @Override
     public String lastFailure() {
         return lastFailure;
     }

@@ -42,6 +42,19 @@ public interface CommandPort extends AutoCloseable {
     /** A short sentence on the port's state, for status lines and logs (may allocate). */
     String describe();
 
+    /**
+     * The control loop stalled: no tick completed within the stall bound, so no command is going
+     * out. Called from the loop monitor's own thread (the loop thread is the one stuck, possibly
+     * inside this port), at most once per stall. A port that can act on it without going through
+     * {@link #emit}, for example by dropping a drive-enable line or sending a halt on a separate
+     * channel, should do so here. Must not block; exceptions are caught and ignored. Does nothing
+     * by default.
+     *
+     * @param tick the tick the loop was running when the stall was seen
+     */
+    default void loopStalled(long tick) {
+    }
+
     /** Flushes and releases everything; idempotent; waits for the port's own thread to finish. */
     @Override
     void close();

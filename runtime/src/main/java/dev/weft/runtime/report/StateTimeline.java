@@ -31,6 +31,7 @@ final class StateTimeline {
         RANK[SupervisorState.ARMING.ordinal()] = 3;
         RANK[SupervisorState.STOPPING.ordinal()] = 4;
         RANK[SupervisorState.FAULTED.ordinal()] = 5;
+        RANK[SupervisorState.STALLED.ordinal()] = 6;
     }
 
     private StateTimeline() {
@@ -48,6 +49,7 @@ final class StateTimeline {
             case ARMED -> "#a8dcc8";
             case STOPPING -> "url(#" + id + "-cross)";
             case FAULTED -> "#8c2d04";
+            case STALLED -> "#000000";
         };
     }
 
@@ -154,6 +156,9 @@ final class StateTimeline {
         double y = bottom + 56;
         double x = LEFT;
         for (SupervisorState s : SupervisorState.values()) {
+            if (s == SupervisorState.STALLED) {
+                continue; // a loop state, never in a dry run's trace
+            }
             x = SvgParts.legendSwatch(m, x, y, words(s), fill(id, s));
         }
         x = SvgParts.legendSwatch(m, x, y, "condition present", SvgParts.INK);

@@ -54,6 +54,9 @@ class RunCommandTest {
                   observation_age_max: 0.05
                   inference_latency_max: 0.05
                   overruns_max: 100
+                  # a shared CI machine can hold a thread off the CPU for several 2 ms periods
+                  # inside a tick; a robot computer keeps the default of 3
+                  stall_periods: 50
                 arming:
                   pose_distance_max: 0.5
                   ramp_time: 0.5
@@ -133,7 +136,7 @@ class RunCommandTest {
             assertThat(sequences.size()).as(log).isGreaterThan(100);
             assertThat(rows).as("a row for every command sent; " + log).hasSize(sequences.size() + 1);
             // the last rows are the controlled stop's: the robot ended at rest, disarmed
-            assertThat(rows.get(rows.size() - 1)).contains(",disarmed,");
+            assertThat(rows.get(rows.size() - 1)).as(log).contains(",disarmed,");
         }
     }
 

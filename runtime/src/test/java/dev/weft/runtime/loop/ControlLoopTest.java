@@ -140,7 +140,10 @@ class ControlLoopTest {
         broken[0] = true;
         runTicks(loop, 2000);
         assertThat(loop.supervisor().state()).isEqualTo(SupervisorState.FAULTED);
-        assertThat(loop.supervisor().latchedCause()).isEqualTo(WatchdogCondition.NON_FINITE_OUTPUT.code());
+        // its own cause, with the exception's class and message, not "non-finite output"
+        assertThat(loop.supervisor().latchedCause()).isEqualTo(WatchdogCondition.POLICY_FAILED.code());
+        assertThat(loop.faultDetail(WatchdogCondition.POLICY_FAILED.code()))
+                .contains("IllegalStateException").contains("model crashed");
         assertThat(loop.status().inferenceFailures()).isGreaterThan(0);
         // the failure did not kill the inference path: requests kept being served
         assertThat(calls[0]).isGreaterThan(before + 100);
@@ -199,23 +202,37 @@ class ControlLoopTest {
     }
 
     @Test
-    void everyTickReachesTheTelemetryFileAlsoWhenTheLoopDiesOfAnException() throws Exception {
+    void aPortThatThrowsIsContainedAtTheTickAndEveryTickStillReachesTheTelemetryFile() throws Exception {
         LoopFixture f = new LoopFixture();
         RecordingPort port = new RecordingPort();
         port.throwAtTick = 777;
         f.port = port;
+        f.maxTicks = 1500;
         f.source = new FixedSource(new double[3], f.clock);
         f.telemetryFile = dir.resolve("telemetry.csv");
         ControlLoop loop = f.build(LoopFixture.constantGoal(3, 16, 0.0));
         loop.start("test-loop");
         assertThat(loop.awaitEnd(30_000_000_000L)).isTrue();
-        assertThat(loop.failure()).hasMessage("driver crashed at tick 777");
+        // the loop did not die: it ran to its bound, and the exception became a cause of its own
+        assertThat(loop.failure()).isNull();
+        assertThat(loop.status().ticks()).isEqualTo(1500);
+        assertThat(loop.tickFaults()).isEqualTo(1);
+        assertThat(loop.faultDetail(WatchdogCondition.PORT_EXCEPTION.code()))
+                .isEqualTo("port.emit: java.lang.IllegalStateException: driver crashed at tick 777");
         f.telemetry.close();
         List<String> lines = Files.readAllLines(f.telemetryFile);
         assertThat(lines.get(0)).startsWith("tick,time_s,period_error_us,compute_us,state,watchdog,limiter,plan_ticks");
-        assertThat(lines).hasSize(1 + 777);
-        assertThat(loop.status().ticks()).isEqualTo(777);
-        assertThat(lines.get(777)).startsWith("776,");
+        assertThat(lines).hasSize(1 + 1500);
+        String[] row777 = lines.get(1 + 777).split(",");
+        String[] row778 = lines.get(1 + 778).split(",");
+        assertThat(row777[0]).isEqualTo("777");
+        assertThat(row777[9]).as("emitted at the throwing tick").isEqualTo("0");
+        assertThat(row778[9]).as("emitted at the next tick").isEqualTo("1");
+        // the emit fault is seen after tick 777's command went out, so tick 778's watchdog reports it
+        int bit = WatchdogCondition.PORT_EXCEPTION.bit();
+        assertThat(Integer.parseInt(row777[5]) & bit).isZero();
+        assertThat(Integer.parseInt(row778[5]) & bit).isEqualTo(bit);
+        assertThat(Integer.parseInt(lines.get(1 + 779).split(",")[5]) & bit).as("cleared once emit works again").isZero();
     }
 
     @Test

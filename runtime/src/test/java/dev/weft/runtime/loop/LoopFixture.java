@@ -44,6 +44,8 @@ final class LoopFixture {
     Inference worker;
     /** Ticks of modelled inference latency; negative = a real worker thread. */
     long latencyTicks = 3;
+    int stallPeriods = LoopSettings.DEFAULT_STALL_PERIODS;
+    double planRangeSlack = 0.0;
 
     JointLimits limits() {
         JointLimits.Builder b = JointLimits.builder();
@@ -99,7 +101,8 @@ final class LoopFixture {
         port.open(joints);
         JointLimits limits = limits();
         LoopSettings settings = new LoopSettings(periodNanos, queryEvery, LoopSettings.leadingPositions(joints), maxTicks,
-                2_000_000_000L, 2_000_000_000L, false);
+                2_000_000_000L, 2_000_000_000L, false, LoopSettings.DEFAULT_OBSERVATION_AHEAD_MAX_NANOS, planRangeSlack,
+                stallPeriods);
         return new ControlLoop(clock, wait, settings, source, worker, blender, null, watchdog,
                 pose -> Supervisor.builder(limits, period).maxArmingOffset(range).listener(transitions).build(pose),
                 StopCategory.CATEGORY_2, port, telemetry);
