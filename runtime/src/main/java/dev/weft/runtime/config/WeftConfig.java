@@ -70,19 +70,32 @@ public record WeftConfig(RobotConfig robot, TimingConfig timing, PolicySpec poli
                 GatesConfig.DEFAULTS);
     }
 
+    /** Largest configuration file read: 1 MiB. */
+    public static final int MAX_FILE_BYTES = 1 << 20;
+
     /**
      * Reads and checks a configuration file. Relative paths in it resolve against the file's folder.
      *
      * @param file a YAML file, UTF-8
      * @return the checked configuration
-     * @throws BadInputException naming the file when it cannot be read or is not valid YAML (with
-     *     line and column), or listing every problem with its key path and line
+     * @throws BadInputException naming the file when it cannot be read, is larger than 1 MiB, or is
+     *     not valid YAML (with line and column), or listing every problem with its key path and line
      */
     public static WeftConfig load(Path file) throws BadInputException {
         Path abs = file.toAbsolutePath().normalize();
         String text;
-        try {
-            text = Files.readString(abs);
+        try (java.io.InputStream in = Files.newInputStream(abs)) {
+            // read at most one byte past the bound, so a huge file (or an endless stream) is refused
+            // without being held in memory
+            byte[] bytes = in.readNBytes(MAX_FILE_BYTES + 1);
+            if (bytes.length > MAX_FILE_BYTES) {
+                throw new BadInputException(file.toString(), "is larger than " + MAX_FILE_BYTES
+                        + " bytes; a configuration may hold at most 1 MiB");
+            }
+            text = java.nio.charset.StandardCharsets.UTF_8.newDecoder()
+                    .onMalformedInput(java.nio.charset.CodingErrorAction.REPORT)
+                    .onUnmappableCharacter(java.nio.charset.CodingErrorAction.REPORT)
+                    .decode(java.nio.ByteBuffer.wrap(bytes)).toString();
         } catch (NoSuchFileException e) {
             throw new BadInputException(file.toString(), "file not found");
         } catch (CharacterCodingException e) {

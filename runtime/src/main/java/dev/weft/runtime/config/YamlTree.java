@@ -42,6 +42,13 @@ final class YamlTree {
             .build();
     private static final JsonNodeFactory NODES = JsonNodeFactory.instance;
 
+    /** Most characters a configuration document may hold: 1 Mi. */
+    static final int MAX_DOCUMENT_CHARS = 1 << 20;
+    /** Most characters of one text value (a path, a name, a reason): 4096. */
+    static final int MAX_TEXT_CHARS = 4096;
+    /** Most characters of one number as written: 64 (a double needs at most 25). */
+    static final int MAX_NUMBER_CHARS = 64;
+
     private final String sourceName;
     private final Map<String, Integer> lines = new HashMap<>();
     private final Map<String, String> rawText = new HashMap<>();
@@ -61,6 +68,10 @@ final class YamlTree {
      *     document, more than one document, a key given twice, or an alias
      */
     static YamlTree read(String yaml, String sourceName) throws BadInputException {
+        if (yaml.length() > MAX_DOCUMENT_CHARS) {
+            throw new BadInputException(sourceName, "holds " + yaml.length() + " characters; a configuration may hold at"
+                    + " most " + MAX_DOCUMENT_CHARS + " (1 MiB)");
+        }
         YamlTree t = new YamlTree(sourceName);
         try (YAMLParser p = FACTORY.createParser(yaml)) {
             JsonToken first = p.nextToken();
@@ -138,9 +149,16 @@ final class YamlTree {
                     problems.add(new Problem(KeyPath.display(path) + " (line " + p.currentTokenLocation().getLineNr()
                             + ")", "uses the alias *" + p.getText() + "; aliases are not supported, write the value out"));
                 }
+                if (p.getTextLength() > MAX_TEXT_CHARS) {
+                    return tooLong(p, path, MAX_TEXT_CHARS);
+                }
                 return NODES.textNode(p.getText());
             case VALUE_NUMBER_INT:
             case VALUE_NUMBER_FLOAT:
+                if (p.getTextLength() > MAX_NUMBER_CHARS) {
+                    // refused before the digits are parsed: a huge number takes minutes to convert
+                    return tooLong(p, path, MAX_NUMBER_CHARS);
+                }
                 rawText.put(path, p.getText());
                 return number(p);
             case VALUE_TRUE:
@@ -152,6 +170,13 @@ final class YamlTree {
             default:
                 throw new IllegalStateException("unexpected YAML token " + t);
         }
+    }
+
+    private JsonNode tooLong(YAMLParser p, String path, int max) throws IOException {
+        problems.add(new Problem((path.isEmpty() ? sourceName : KeyPath.display(path)) + " (line "
+                + p.currentTokenLocation().getLineNr() + ")", "is a value of " + p.getTextLength()
+                + " characters; a " + (max == MAX_NUMBER_CHARS ? "number" : "value") + " may have at most " + max));
+        return NODES.nullNode();
     }
 
     private void skipValue(YAMLParser p, String path) throws IOException {

@@ -121,6 +121,9 @@ final class CsvRecordingReader {
             problems.throwIfAny();
             return new Recording(name, times.toArray(), obs.toArray(), act.toArray(), spec.observation().names(),
                     spec.jointNames());
+        } catch (LineReader.LineTooLongException e) {
+            throw new BadInputException(name + " (line " + (lineNo + 1) + ")", "is longer than " + e.limit
+                    + " bytes; a recording line may hold at most 1 MiB");
         } catch (CharacterCodingException e) {
             if (startsWithHdf5Signature(file)) {
                 throw new BadInputException(name, "is an HDF5 file, not CSV text; set recording.format to hdf5 "

@@ -13,8 +13,9 @@ import java.util.Arrays;
 /**
  * Reads UTF-8 text one line at a time, decoding each line by itself so that a byte sequence that
  * is not UTF-8 is reported on its own line (a reader that decodes ahead in blocks would fail
- * before handing over the lines before it). Lines end with {@code \n} or {@code \r\n}. Not
- * thread-safe.
+ * before handing over the lines before it). Lines end with {@code \n} or {@code \r\n}. A line
+ * longer than the bound (1 MiB unless told) is refused as soon as the bound is passed, before it is
+ * held whole. Not thread-safe.
  */
 final class LineReader implements Closeable {
 
@@ -26,9 +27,28 @@ final class LineReader implements Closeable {
     private int chunkPos;
     private int chunkEnd;
     private byte[] line = new byte[256];
+    private final int maxLineBytes;
+
+    /** Longest line a recording may hold, in bytes without its line end: 1 MiB. */
+    static final int MAX_LINE_BYTES = 1 << 20;
 
     LineReader(InputStream in) {
+        this(in, MAX_LINE_BYTES);
+    }
+
+    LineReader(InputStream in, int maxLineBytes) {
         this.in = in;
+        this.maxLineBytes = maxLineBytes;
+    }
+
+    /** A line longer than the reader's bound; thrown before the line is held in memory. */
+    static final class LineTooLongException extends IOException {
+        final int limit;
+
+        LineTooLongException(int limit) {
+            super("a line is longer than " + limit + " bytes");
+            this.limit = limit;
+        }
     }
 
     /**
@@ -57,6 +77,10 @@ final class LineReader implements Closeable {
                 end++;
             }
             int len = end - start;
+            if ((long) n + len > maxLineBytes + 1L) {
+                // one byte more than the bound may be a \r before the \n
+                throw new LineTooLongException(maxLineBytes);
+            }
             if (n + len > line.length) {
                 line = Arrays.copyOf(line, Math.max(line.length * 2, n + len));
             }
@@ -70,6 +94,9 @@ final class LineReader implements Closeable {
         }
         if (n > 0 && line[n - 1] == '\r') {
             n--;
+        }
+        if (n > maxLineBytes) {
+            throw new LineTooLongException(maxLineBytes);
         }
         return decoder.decode(ByteBuffer.wrap(line, 0, n)).toString();
     }

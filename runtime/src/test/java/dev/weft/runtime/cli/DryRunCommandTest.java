@@ -153,6 +153,23 @@ class DryRunCommandTest {
     }
 
     @Test
+    void aRecordingWithAGiantLineIsRefusedAsBadInputAfterOneMebibyte() throws Exception {
+        Path cfg = config("{kind: discard}");
+        // a sparse file: a 1.5 GB line of NUL bytes after a valid header, taking no disk space; the
+        // reader must refuse it after 1 MiB instead of holding it (exit 2, could not run, not 1)
+        Path rec = dir.resolve("giant.csv");
+        Files.writeString(rec, "time,q.x,a.x\n");
+        try (java.io.RandomAccessFile f = new java.io.RandomAccessFile(rec.toFile(), "rw")) {
+            f.setLength(1_500_000_000L);
+        }
+        InspectCommandTest.Run r = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                "--report", dir.resolve("o").toString());
+        assertThat(r.exit()).as(r.out() + r.err()).isEqualTo(2);
+        assertThat(r.err()).isEqualTo("weft dry-run: " + rec + " (line 2): is longer than 1048576 bytes; a recording"
+                + " line may hold at most 1 MiB" + System.lineSeparator());
+    }
+
+    @Test
     void aLivePortIsNeverOpenedAndTheRunSaysSo() throws Exception {
         try (DatagramChannel rx = DatagramChannel.open()) {
             rx.bind(new InetSocketAddress("127.0.0.1", 0));

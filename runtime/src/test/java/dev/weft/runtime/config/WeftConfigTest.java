@@ -100,6 +100,37 @@ class WeftConfigTest {
         return text.replace(from, to);
     }
 
+    // ---- untrusted sizes
+
+    @Test
+    void aConfigurationFileOverOneMebibyteIsRefusedWithoutBeingRead() throws Exception {
+        // a sparse 3 GB file: refused after reading 1 MiB + 1 byte, never held whole
+        Path big = dir.resolve("big.yaml");
+        try (java.io.RandomAccessFile f = new java.io.RandomAccessFile(big.toFile(), "rw")) {
+            f.setLength(3_000_000_000L);
+        }
+        BadInputException e = catchThrowableOfType(() -> WeftConfig.load(big), BadInputException.class);
+        assertThat(e).isNotNull();
+        assertThat(e.problems()).map(Problem::toString).containsExactly(
+                big + ": is larger than 1048576 bytes; a configuration may hold at most 1 MiB");
+    }
+
+    @Test
+    void aHugeNumberOrTextValueIsRefusedBeforeItIsConverted() throws Exception {
+        String digits = "1".repeat(100);
+        assertThat(problems(replace(VALID, "control_period: 0.002", "control_period: " + digits)))
+                .containsExactly("timing.control_period (line 15): is a value of 100 characters; a number may have"
+                        + " at most 64");
+        assertThat(problems(replace(VALID, "control_period: 0.002", "control_period: " + "1".repeat(100_000))))
+                .containsExactly("timing.control_period (line 15): is a value of 100000 characters; a value may have"
+                        + " at most 4096");
+        assertThat(problems(replace(VALID, "name: arm", "name: " + "n".repeat(5000))))
+                .containsExactly("robot.name (line 2): is a value of 5000 characters; a value may have at most 4096");
+        assertThat(problems("# " + "x".repeat(1 << 20) + "\n" + VALID))
+                .containsExactly("test.yaml: holds " + ((1 << 20) + 3 + VALID.length())
+                        + " characters; a configuration may hold at most 1048576 (1 MiB)");
+    }
+
     // ---- valid files
 
     @Test

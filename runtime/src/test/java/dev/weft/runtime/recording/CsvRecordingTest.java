@@ -71,6 +71,20 @@ class CsvRecordingTest {
     }
 
     @Test
+    void aLineOfOneMebibyteIsReadAndOneByteMoreIsRefusedNamingTheLine() throws Exception {
+        String header = "time,q.shoulder,q.elbow,a.shoulder,a.elbow\n";
+        String samples = "0.0,0.1,0.2,0.3,0.4\n0.01,0.1,0.2,0.3,0.4\n";
+        // a comment line of exactly 1 MiB (the bound) between the samples is skipped as usual
+        String atBound = "#" + "x".repeat((1 << 20) - 1) + "\r\n";
+        Recording r = Recordings.read(write("big.csv", header + samples + atBound + "0.02,0.1,0.2,0.3,0.4\n"),
+                Specs.csv());
+        assertThat(r.length()).isEqualTo(3);
+        String over = "#" + "x".repeat(1 << 20) + "\n";
+        assertThat(problems(header + samples + over)).containsExactly(
+                "run.csv (line 4): is longer than 1048576 bytes; a recording line may hold at most 1 MiB");
+    }
+
+    @Test
     void aMissingColumnNamesTheHeaderLineAndListsTheColumnsThere() throws Exception {
         assertThat(problems("# two comment lines\n# before the header\ntime,q.shoulder,q.elbw,a.shoulder\n0,1,2,3\n"))
                 .containsExactly(
