@@ -141,6 +141,9 @@ public final class EmbeddingExample {
                 // called the plan can be up to 0.2 rad from the held pose (more than 0.05 whenever the
                 // inference thread was late by a few ticks); the soft start closes that gap
                 .armingOffset(0.25)
+                // this example runs on desktops and shared CI machines, which can hold a thread off
+                // the CPU for several 2 ms periods; on a tuned robot computer keep the default of 3
+                .stallPeriods(25)
                 .listener((tick, time, from, to, cause, message) ->
                         System.out.printf(Locale.ROOT, "tick %d: %s -> %s (%s)%n", tick, from, to, message))
                 .build()) {

@@ -78,7 +78,7 @@ public final class Watchdog {
      * @param portFault             whether the command port reports a fault
      * @param nonFiniteOutput       whether the policy output used this tick had NaN or an infinity
      * @param operatorStop          whether the operator asked for a stop
-     * @return code of the first condition present (see {@link WatchdogCondition}), or 0 when none
+     * @return code of the condition present that comes first in the cause order (a failed part before the symptoms it brings; docs/safety.md), or 0 when none
      */
     public int check(long tick, long observationAgeNanos, int planTicksRemaining, long inferenceLatencyNanos,
                      int consecutiveOverruns, boolean portFault, boolean nonFiniteOutput, boolean operatorStop) {
@@ -125,8 +125,46 @@ public final class Watchdog {
         seen &= enabledMask;
         activeMask = seen;
         lastTick = tick;
-        lastCode = seen == 0 ? 0 : Integer.numberOfTrailingZeros(seen) + 1;
+        lastCode = first(seen);
         return lastCode;
+    }
+
+    /**
+     * The order in which conditions present at the same tick name the cause: the operator's stop,
+     * then a part that failed (the loop, a tick step, the port, the telemetry, the policy, the
+     * observation, the plan), then the symptoms that follow from such a failure (a stale
+     * observation, overruns, late inference, a plan running out). A stalled loop or a failed
+     * policy starves the plan, so the plan running out is never the cause when they are present.
+     */
+    private static final WatchdogCondition[] PRIORITY = {
+        WatchdogCondition.OPERATOR_STOP,
+        WatchdogCondition.LOOP_STALLED,
+        WatchdogCondition.TICK_EXCEPTION,
+        WatchdogCondition.PORT_EXCEPTION,
+        WatchdogCondition.PORT_FAULT,
+        WatchdogCondition.TELEMETRY_FAULT,
+        WatchdogCondition.POLICY_FAILED,
+        WatchdogCondition.NON_FINITE_OBSERVATION,
+        WatchdogCondition.OBSERVATION_AHEAD,
+        WatchdogCondition.NON_FINITE_OUTPUT,
+        WatchdogCondition.PLAN_OUT_OF_RANGE,
+        WatchdogCondition.STALE_OBSERVATION,
+        WatchdogCondition.LOOP_OVERRUNS,
+        WatchdogCondition.INFERENCE_LATE,
+        WatchdogCondition.PLAN_STARVED,
+        WatchdogCondition.PLAN_LOW,
+    };
+
+    private static int first(int seen) {
+        if (seen == 0) {
+            return 0;
+        }
+        for (WatchdogCondition c : PRIORITY) {
+            if ((seen & c.bit()) != 0) {
+                return c.code();
+            }
+        }
+        return Integer.numberOfTrailingZeros(seen) + 1;
     }
 
     /** Bits ({@link WatchdogCondition#bit()}) of every enabled condition present at the last check. */

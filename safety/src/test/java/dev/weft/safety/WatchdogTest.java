@@ -64,6 +64,28 @@ class WatchdogTest {
     }
 
     @Test
+    void aFailedPartNamesTheCauseBeforeTheSymptomsItBrings() {
+        Watchdog w = defaults();
+        // a loop that stalled also ran out of plan and let the observation age
+        assertThat(w.check(9, 30 * MS, 0, 5 * MS, 0, false, false, false, WatchdogCondition.LOOP_STALLED.bit()))
+                .isEqualTo(WatchdogCondition.LOOP_STALLED.code());
+        // a policy that throws leaves inference late and the plan low
+        assertThat(w.check(10, 1 * MS, 1, 600 * MS, 0, false, false, false, WatchdogCondition.POLICY_FAILED.bit()))
+                .isEqualTo(WatchdogCondition.POLICY_FAILED.code());
+        // a port that threw beats the port's own fault flag, which may follow from it
+        assertThat(w.check(11, 1 * MS, 100, 5 * MS, 0, true, false, false, WatchdogCondition.PORT_EXCEPTION.bit()))
+                .isEqualTo(WatchdogCondition.PORT_EXCEPTION.code());
+        // the operator's stop comes first of all
+        assertThat(w.check(12, 1 * MS, 0, 5 * MS, 0, false, false, true, WatchdogCondition.LOOP_STALLED.bit()))
+                .isEqualTo(WatchdogCondition.OPERATOR_STOP.code());
+        // each condition alone is its own code
+        for (WatchdogCondition c : WatchdogCondition.values()) {
+            assertThat(w.check(13, 1 * MS, 100, 5 * MS, 0, false, false, false, c.bit())).as(c.name())
+                    .isEqualTo(c.code());
+        }
+    }
+
+    @Test
     void disablingNeedsAReasonAndIsListed() {
         assertThatThrownBy(() -> Watchdog.builder().disable(WatchdogCondition.INFERENCE_LATE, " "))
                 .hasMessage("watchdog: disabling INFERENCE_LATE needs a non-empty reason");

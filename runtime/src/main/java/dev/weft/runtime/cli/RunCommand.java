@@ -33,7 +33,7 @@ import picocli.CommandLine.Parameters;
 @Command(name = "run", mixinStandardHelpOptions = true,
         description = "Run a configuration live. Without --arm only hold commands go out. Ctrl-C stops the"
                 + " robot under control, flushes and exits (exit 0 ended cleanly, 1 ended faulted or arming was"
-                + " refused, 2 could not start).")
+                + " refused, 2 could not start, 3 the control loop stalled).")
 final class RunCommand implements Callable<Integer> {
 
     private static final Logger LOG = LoggerFactory.getLogger("weft.run");
@@ -88,7 +88,7 @@ final class RunCommand implements Callable<Integer> {
         Thread hook = new Thread(() -> {
             out.println("weft run: stopping (controlled stop, then flush)");
             out.flush();
-            weft.close();
+            closeReporting(weft, out);
         }, "weft-shutdown");
         try {
             weft.start();
@@ -117,7 +117,7 @@ final class RunCommand implements Callable<Integer> {
                 exit = statusUntilDone(weft, out);
             }
         } finally {
-            weft.close();
+            closeReporting(weft, out);
             try {
                 Runtime.getRuntime().removeShutdownHook(hook);
             } catch (IllegalStateException shuttingDown) {
@@ -140,8 +140,23 @@ final class RunCommand implements Callable<Integer> {
         if (weft.state() == SupervisorState.FAULTED) {
             exit = WeftCommand.VERDICT_FAILED;
         }
+        if (weft.stalls() > 0 || weft.state() == SupervisorState.STALLED) {
+            out.println("the control loop stalled " + weft.stalls() + " time(s): "
+                    + weft.faultDetail(dev.weft.safety.WatchdogCondition.LOOP_STALLED.code()));
+            exit = WeftCommand.LOOP_STALLED;
+        }
         out.flush();
         return exit;
+    }
+
+    /** Closes the run; a part that would not close (a loop thread stuck in a port) is one line, not a trace. */
+    private static void closeReporting(Weft weft, PrintWriter out) {
+        try {
+            weft.close();
+        } catch (RuntimeException e) {
+            out.println("weft run: " + e.getMessage());
+            out.flush();
+        }
     }
 
     private static int armWhenPlanned(Weft weft) throws InterruptedException {

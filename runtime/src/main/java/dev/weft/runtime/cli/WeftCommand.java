@@ -21,7 +21,8 @@ import picocli.CommandLine.Command;
         exitCodeList = {
             "0:done",
             "1:ran, and the verdict is no (a check or gate failed)",
-            "2:could not run: bad input or usage, with the reason on standard error"
+            "2:could not run: bad input or usage, with the reason on standard error",
+            "3:the control loop stalled during the run (a tick did not complete in time)"
         })
 public final class WeftCommand implements Runnable {
 
@@ -29,6 +30,8 @@ public final class WeftCommand implements Runnable {
     public static final int VERDICT_FAILED = 1;
     /** Exit code: the command could not run (bad input or usage). */
     public static final int COULD_NOT_RUN = 2;
+    /** Exit code: the control loop stalled during the run (the loop-stalled alarm was raised). */
+    public static final int LOOP_STALLED = 3;
 
     @CommandLine.Spec
     CommandLine.Model.CommandSpec spec;

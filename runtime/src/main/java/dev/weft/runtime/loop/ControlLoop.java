@@ -359,8 +359,11 @@ public final class ControlLoop implements AutoCloseable {
                     stallActive = false;
                 }
             } else {
+                // read in this order: if the tick that began at `began` had not completed when
+                // `last` was read, it was at work at `now`, for now - began at least
                 long began = tickBeganNanos.get();
                 long now = clock.nanoTime();
+                last = progressNanos.get();
                 boolean inTick = began > last;
                 long gap = inTick ? now - began : now - last;
                 long limit = inTick ? bound : bound + IDLE_STALL_MARGIN_NANOS;
