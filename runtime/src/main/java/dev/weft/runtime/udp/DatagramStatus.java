@@ -3,7 +3,9 @@ package dev.weft.runtime.udp;
 /**
  * What became of one received datagram: accepted, or the one reason it was rejected. The codec
  * ({@link DatagramCodec}) returns the shape and authentication reasons, checked in the order of
- * the constants from {@code TOO_SHORT} to {@code NON_FINITE}; the state receiver checks the source
+ * the constants from {@code TOO_SHORT} to {@code NON_FINITE} ({@code TOO_SHORT} twice: below the
+ * 8 bytes of magic, version and length, and again once the version gives the smallest size);
+ * the state receiver checks the source
  * ({@code NOT_ALLOWED}) before them and the sequence window ({@link SequenceWindow}:
  * {@code OTHER_SESSION} to {@code OUT_OF_ORDER}) after them. The first check that fails names the
  * datagram's status. Enum constants are shared singletons, so returning one allocates nothing.
