@@ -94,12 +94,14 @@ class UdpAuthenticatedLinkTest {
     /** The same forgery as the first datagram ever seen: the real sender is back after the silence. */
     @Test
     void aForgedFirstDatagramHoldsTheSenderOffOnlyForTheSilence() throws Exception {
-        try (UdpStateReceiver r = receiver(false, "resync_silence_ms", 50); DatagramChannel robot = Loopback.bound("127.0.0.1")) {
+        // A silence of 1 s: the second datagram must arrive within it (it is sent as soon as the
+        // first was judged), and the third after it (it is sent 1.2 s later).
+        try (UdpStateReceiver r = receiver(false, "resync_silence_ms", 1_000); DatagramChannel robot = Loopback.bound("127.0.0.1")) {
             r.start();
             send(r, robot, ReferenceDatagrams.state(MAX, 0, 1.5, 1.5));
             send(r, robot, ReferenceDatagrams.state(10_000, 0, 1, 1));
             assertThat(r.count(DatagramStatus.BEYOND_WINDOW)).isEqualTo(1);
-            TimeUnit.MILLISECONDS.sleep(150);
+            TimeUnit.MILLISECONDS.sleep(1_200);
             send(r, robot, ReferenceDatagrams.state(10_001, 0, 2, 2));
             send(r, robot, ReferenceDatagrams.state(10_002, 0, 3, 3));
             assertThat(r.accepted()).isEqualTo(3);
@@ -134,7 +136,11 @@ class UdpAuthenticatedLinkTest {
         }
     }
 
-    /** With a key, nothing but an authentic datagram changes the observation, its time or the window. */
+    /**
+     * With a key, nothing but an authentic datagram changes the observation, its time or the
+     * window. Everything is sent from the robot's own address, as a raw socket forging that
+     * address would (issue 11's allowlist-bypass row): the allowlist passes it, the tag does not.
+     */
     @Test
     void wronglyKeyedUnauthenticatedAndTruncatedDatagramsChangeNothing() throws Exception {
         try (UdpStateReceiver r = receiver(true); DatagramChannel robot = Loopback.bound("127.0.0.1")) {
