@@ -2,6 +2,7 @@ package dev.weft.runtime.udp;
 
 import dev.weft.runtime.port.PortOptions;
 import java.net.InetAddress;
+import org.slf4j.Logger;
 
 /**
  * The rule for links without a key: an address other than loopback (the state receiver's
@@ -47,5 +48,11 @@ final class LinkPolicy {
             return null;
         }
         return reason;
+    }
+
+    /** The warning a link that runs off loopback without a key logs when it starts. */
+    static void warnUnauthenticated(Logger log, String where, InetAddress address, String reason) {
+        log.warn("{} = {} is not a loopback address and the link has no key; running unauthenticated as {}",
+                where, address.getHostAddress(), reason);
     }
 }

@@ -190,6 +190,15 @@ public final class UdpCommandPort implements CommandPort {
             if (channel != null || closed) {
                 throw new IllegalStateException("the UDP command port was already opened or closed");
             }
+            // The key's Mac before the socket, so nothing is left open if it cannot be made.
+            if (key != null) {
+                long id = new SecureRandom().nextLong();
+                this.senderTag = key.newTag();
+                this.session = id;
+                this.codec = DatagramCodec.keyed(null, id);
+            } else {
+                this.codec = new DatagramCodec();
+            }
             DatagramChannel ch = DatagramChannel.open(
                     host instanceof Inet4Address ? StandardProtocolFamily.INET : StandardProtocolFamily.INET6);
             try {
@@ -203,16 +212,7 @@ public final class UdpCommandPort implements CommandPort {
                         + (bind != null ? " from " + bind.getHostAddress() : "") + ": " + e.getMessage(), e);
             }
             if (unauthenticatedReason != null) {
-                LOG.warn("{} = {} is not a loopback address and the link has no key; running unauthenticated as {}",
-                        where, host.getHostAddress(), unauthenticatedReason);
-            }
-            if (key != null) {
-                long id = new SecureRandom().nextLong();
-                this.session = id;
-                this.senderTag = key.newTag();
-                this.codec = DatagramCodec.keyed(null, id);
-            } else {
-                this.codec = new DatagramCodec();
+                LinkPolicy.warnUnauthenticated(LOG, where, host, unauthenticatedReason);
             }
             this.ring = new CommandRing(queue, slotBytes);
             this.joints = joints;

@@ -188,8 +188,7 @@ public final class UdpStateReceiver implements ObservationSource {
             }
             boundPort = ((InetSocketAddress) ch.getLocalAddress()).getPort();
             if (unauthenticatedReason != null) {
-                LOG.warn("{} = {} is not a loopback address and the link has no key; running unauthenticated as {}",
-                        where, bind.getHostAddress(), unauthenticatedReason);
+                LinkPolicy.warnUnauthenticated(LOG, where, bind, unauthenticatedReason);
             }
             channel = ch;
             thread = new Thread(this::receiveLoop, "weft-udp-state-" + boundPort);
@@ -268,11 +267,6 @@ public final class UdpStateReceiver implements ObservationSource {
     /** Times another session was adopted (a restarted sender, keyed links only). */
     public long sessionChanges() {
         return extra.get(SESSION_CHANGES);
-    }
-
-    /** True when a key is configured (only tagged datagrams are accepted). */
-    public boolean keyed() {
-        return key != null;
     }
 
     @Override
