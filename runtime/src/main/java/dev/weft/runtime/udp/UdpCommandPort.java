@@ -14,6 +14,7 @@ import java.net.UnknownHostException;
 import java.nio.ByteBuffer;
 import java.nio.channels.ClosedChannelException;
 import java.nio.channels.DatagramChannel;
+import java.security.SecureRandom;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicLong;
 import java.util.concurrent.locks.LockSupport;
@@ -48,7 +49,16 @@ import org.slf4j.LoggerFactory;
  *   <li>{@code queue}: slots in the hand-off ring, a power of two from 2 to 65536; default 64</li>
  *   <li>{@code faultAfter}: failures in a row that raise the port fault, 1 to 1000000; default 10</li>
  *   <li>{@code drainMillis}: how long {@link #close} keeps sending queued frames, 0 to 10000; default 100</li>
+ *   <li>{@code key_file}: the shared key of an authenticated link ({@link LinkKey}); with it the
+ *       port sends version 2 datagrams, each with a session id drawn at random when the port opens
+ *       and an HMAC-SHA-256 tag; default none (version 1)</li>
+ *   <li>{@code unauthenticated_reason}: required to send to a host that is not a loopback address
+ *       without {@code key_file}; logged as a warning when the port opens</li>
  * </ul>
+ *
+ * <p>With a key, {@link #emit} lays the datagram out with its tag field zero, and the sender
+ * thread computes the tag into the slot just before writing it: the control loop thread never
+ * runs the HMAC (nor allocates for it; {@link DatagramTag} has the sender thread's cost).
  *
  * <p>Threading: {@link #open} and {@link #close} from the thread that runs the port; {@link #emit}
  * and the counters from the control loop thread (the counters may also be read from any other).
@@ -71,8 +81,11 @@ public final class UdpCommandPort implements CommandPort {
     private final long drainNanos;
     private final String where;
 
-    // Control loop thread.
-    private final DatagramCodec codec = new DatagramCodec();
+    private final LinkKey key;
+    private final String unauthenticatedReason;
+
+    // Control loop thread (set by open).
+    private DatagramCodec codec;
     private CommandRing ring;
     private int joints;
     private long sequence;
@@ -95,9 +108,14 @@ public final class UdpCommandPort implements CommandPort {
     private final Object lifecycle = new Object();
     private DatagramChannel channel;
     private Thread sender;
+    private DatagramTag senderTag;
+    private volatile long session;
     private boolean closed;
 
-    private UdpCommandPort(InetAddress host, int port, InetAddress bind, int queue, int faultAfter, int drainMillis, String where) {
+    private UdpCommandPort(InetAddress host, int port, InetAddress bind, int queue, int faultAfter, int drainMillis, String where,
+                           LinkKey key, String unauthenticatedReason) {
+        this.key = key;
+        this.unauthenticatedReason = unauthenticatedReason;
         this.host = host;
         this.port = port;
         this.bind = bind;
@@ -146,8 +164,11 @@ public final class UdpCommandPort implements CommandPort {
         }
         int faultAfter = options.integer("faultAfter", 10, 1, 1_000_000);
         int drainMillis = options.integer("drainMillis", 100, 0, 10_000);
+        LinkKey key = LinkKey.read(options, LinkPolicy.KEY_FILE);
+        String reason = LinkPolicy.unauthenticatedReason(options, "host", hostText, host);
         options.finish();
-        return new UdpCommandPort(host, port, bind, queue, faultAfter, drainMillis, options.where("host"));
+        return new UdpCommandPort(host, port, bind, queue, faultAfter, drainMillis, options.where("host"), key,
+                reason == null ? null : options.where(LinkPolicy.REASON) + ": " + reason);
     }
 
     private static String family(InetAddress a) {
@@ -164,10 +185,19 @@ public final class UdpCommandPort implements CommandPort {
      */
     @Override
     public void open(int joints) throws IOException {
-        int slotBytes = DatagramCodec.commandLength(joints);
+        int slotBytes = DatagramCodec.commandLength(joints, key != null);
         synchronized (lifecycle) {
             if (channel != null || closed) {
                 throw new IllegalStateException("the UDP command port was already opened or closed");
+            }
+            // The key's Mac before the socket, so nothing is left open if it cannot be made.
+            if (key != null) {
+                long id = new SecureRandom().nextLong();
+                this.senderTag = key.newTag();
+                this.session = id;
+                this.codec = DatagramCodec.keyed(null, id);
+            } else {
+                this.codec = new DatagramCodec();
             }
             DatagramChannel ch = DatagramChannel.open(
                     host instanceof Inet4Address ? StandardProtocolFamily.INET : StandardProtocolFamily.INET6);
@@ -180,6 +210,9 @@ public final class UdpCommandPort implements CommandPort {
                 ch.close();
                 throw new IOException("cannot send to " + where + " = " + host.getHostAddress() + ", port " + port
                         + (bind != null ? " from " + bind.getHostAddress() : "") + ": " + e.getMessage(), e);
+            }
+            if (unauthenticatedReason != null) {
+                LinkPolicy.warnUnauthenticated(LOG, where, host, unauthenticatedReason);
             }
             this.ring = new CommandRing(queue, slotBytes);
             this.joints = joints;
@@ -281,6 +314,11 @@ public final class UdpCommandPort implements CommandPort {
         return r == null ? 0 : r.pending();
     }
 
+    /** The session id this port's datagrams carry (drawn when it opens; 0 before, and always 0 without a key). */
+    public long session() {
+        return session;
+    }
+
     /** The sequence number the last emitted frame took (0 before the first). */
     public long lastSequence() {
         return sequence;
@@ -291,7 +329,7 @@ public final class UdpCommandPort implements CommandPort {
         String fa = fault;
         return "udp commands to " + host.getHostAddress() + ":" + port + ": " + emitted() + " emitted, "
                 + dropped() + " dropped, " + sent() + " sent, " + sendFailures() + " send failures, "
-                + pending() + " queued" + (fa == null ? "" : "; faulted: " + fa);
+                + pending() + " queued" + (key == null ? "" : ", HMAC-SHA-256 " + key) + (fa == null ? "" : "; faulted: " + fa);
     }
 
     /**
@@ -345,6 +383,7 @@ public final class UdpCommandPort implements CommandPort {
     private void sendLoop() {
         CommandRing r = ring;
         DatagramChannel ch = channel;
+        DatagramTag tag = senderTag;
         while (true) {
             ByteBuffer slot = r.peek();
             if (slot == null) {
@@ -360,6 +399,9 @@ public final class UdpCommandPort implements CommandPort {
             }
             if (closing && System.nanoTime() - drainDeadline > 0) {
                 return;
+            }
+            if (tag != null) {
+                tag.seal(slot, slot.limit());
             }
             try {
                 ch.write(slot);

@@ -31,14 +31,22 @@ import org.slf4j.LoggerFactory;
  *   <li>{@code allow}: source addresses accepted, a list of addresses or prefixes such as
  *       {@code 192.168.7.20} or {@code 10.1.0.0/16}; default loopback only ({@code 127.0.0.0/8}, {@code ::1})</li>
  *   <li>{@code size}: values every datagram must carry, required</li>
+ *   <li>{@code key_file}: the shared key of an authenticated link ({@link LinkKey} has the file
+ *       format and the permission rule); with it only version 2 (tagged) datagrams are accepted,
+ *       without it only version 1; default none</li>
+ *   <li>{@code sequence_window}: the largest step in sequence number accepted, 1 to 1000000; default 256</li>
+ *   <li>{@code resync_silence_ms}: after this many milliseconds without an accepted datagram the
+ *       receiver resynchronises on the next one ({@link SequenceWindow}), 1 to 60000; default 100</li>
+ *   <li>{@code unauthenticated_reason}: required to bind to an address other than loopback without
+ *       {@code key_file}; logged as a warning at start</li>
  * </ul>
  *
  * <p>A datagram is accepted when its source is allowed, it decodes as
- * {@link DatagramStatus#ACCEPTED} with exactly {@code size} finite values, and its sequence number
- * is above the last accepted one (unsigned comparison). Everything else is rejected and counted per
- * {@link DatagramStatus}; skipped sequence numbers (lost datagrams) are counted by {@link #missed()}.
- * A sender that restarts its sequence from a lower number is rejected as out of order until it
- * passes the old number: restart the receiver with it, or start the sequence from a clock.
+ * {@link DatagramStatus#ACCEPTED} with exactly {@code size} finite values (and, with a key, an
+ * authentic tag), and the {@link SequenceWindow} takes its session and sequence number.
+ * Everything else is rejected and counted per {@link DatagramStatus}, and changes nothing: the
+ * observation, the window and the session stay as they were. Skipped sequence numbers (lost
+ * datagrams) are counted by {@link #missed()}.
  *
  * <p>The time {@link #latest} returns is {@link System#nanoTime()} taken on the receiving thread
  * right after the datagram arrived. The sender's own timestamp travels along
@@ -51,7 +59,8 @@ import org.slf4j.LoggerFactory;
  * a new one when it does. So a steady sender, and a storm from one source, cost nothing per
  * datagram ({@code UdpStateReceiverTest} measures it with the thread's allocation counter); a
  * source that alternates with another costs one address object per change, plus one copy of its
- * address bytes for the allowlist check.
+ * address bytes for the allowlist check. With a key, each datagram that reaches the tag check
+ * also costs the 48 bytes of {@link DatagramTag}.
  *
  * <p>Threading: {@link #start} and {@link #close} from the thread that runs the source;
  * {@link #latest} and the counters from any thread, lock-free and without allocation.
@@ -61,6 +70,7 @@ public final class UdpStateReceiver implements ObservationSource {
     private static final Logger LOG = LoggerFactory.getLogger(UdpStateReceiver.class);
     private static final DatagramStatus[] STATUSES = DatagramStatus.values();
     private static final long JOIN_MILLIS = 2_000;
+    private static final int LOGGED_SESSION_CHANGES = 10;
 
     private final InetAddress bind;
     private final int port;
@@ -70,17 +80,23 @@ public final class UdpStateReceiver implements ObservationSource {
 
     private final LatestValue latest;
     private final AtomicLongArray counts = new AtomicLongArray(STATUSES.length);
-    private final AtomicLongArray extra = new AtomicLongArray(3);
+    private final AtomicLongArray extra = new AtomicLongArray(6);
     private static final int MISSED = 0;
     private static final int ERRORS = 1;
     private static final int LAST_SEQUENCE = 2;
+    private static final int RESYNCS = 3;
+    private static final int SESSION_CHANGES = 4;
+    private static final int LAST_SESSION = 5;
+
+    private final LinkKey key;
+    private final String unauthenticatedReason;
+    private final int silenceMillis;
 
     // Receiving thread only.
-    private final DatagramCodec codec = new DatagramCodec();
+    private final DatagramCodec codec;
+    private final SequenceWindow window;
     private final ByteBuffer buffer = ByteBuffer.allocateDirect(1 << 16);
     private final double[] scratch;
-    private boolean anyAccepted;
-    private long lastSequence;
     private InetAddress lastSource;
     private boolean lastSourceAllowed;
 
@@ -90,12 +106,18 @@ public final class UdpStateReceiver implements ObservationSource {
     private volatile boolean closing;
     private volatile int boundPort = -1;
 
-    private UdpStateReceiver(InetAddress bind, int port, SourceAllowlist allowlist, int size, String where) {
+    private UdpStateReceiver(InetAddress bind, int port, SourceAllowlist allowlist, int size, String where,
+                             LinkKey key, SequenceWindow window, int silenceMillis, String unauthenticatedReason) {
         this.bind = bind;
         this.port = port;
         this.allowlist = allowlist;
         this.size = size;
         this.where = where;
+        this.key = key;
+        this.unauthenticatedReason = unauthenticatedReason;
+        this.silenceMillis = silenceMillis;
+        this.codec = key == null ? new DatagramCodec() : DatagramCodec.keyed(key.newTag(), 0);
+        this.window = window;
         this.latest = new LatestValue(size);
         this.scratch = new double[size];
     }
@@ -125,8 +147,18 @@ public final class UdpStateReceiver implements ObservationSource {
             options.problem("size", "is required");
         }
         int size = options.integer("size", 1, 1, DatagramCodec.MAX_STATE_VALUES);
+        LinkKey key = LinkKey.read(options, LinkPolicy.KEY_FILE);
+        if (options.has(LinkPolicy.KEY_FILE) && size > DatagramCodec.MAX_KEYED_STATE_VALUES) {
+            options.problem("size", "must be at most " + DatagramCodec.MAX_KEYED_STATE_VALUES
+                    + " with a key_file (the tag takes room), got " + size);
+        }
+        long window = options.integer("sequence_window", 256, 1, 1_000_000);
+        int silence = options.integer("resync_silence_ms", 100, 1, 60_000);
+        String reason = LinkPolicy.unauthenticatedReason(options, "bind", bindText, bind);
         options.finish();
-        return new UdpStateReceiver(bind, port, allow, size, options.where("bind"));
+        return new UdpStateReceiver(bind, port, allow, size, options.where("bind"), key,
+                new SequenceWindow(window, TimeUnit.MILLISECONDS.toNanos(silence), key != null), silence,
+                reason == null ? null : options.where(LinkPolicy.REASON) + ": " + reason);
     }
 
     @Override
@@ -155,6 +187,9 @@ public final class UdpStateReceiver implements ObservationSource {
                 throw new IOException("cannot receive on " + where + " = " + bind.getHostAddress() + ", port " + port + ": " + e.getMessage(), e);
             }
             boundPort = ((InetSocketAddress) ch.getLocalAddress()).getPort();
+            if (unauthenticatedReason != null) {
+                LinkPolicy.warnUnauthenticated(LOG, where, bind, unauthenticatedReason);
+            }
             channel = ch;
             thread = new Thread(this::receiveLoop, "weft-udp-state-" + boundPort);
             thread.setDaemon(true);
@@ -219,11 +254,27 @@ public final class UdpStateReceiver implements ObservationSource {
         return extra.get(LAST_SEQUENCE);
     }
 
+    /** The session id of the newest accepted datagram (0 before the first, and always 0 unkeyed). */
+    public long session() {
+        return extra.get(LAST_SESSION);
+    }
+
+    /** Times the window re-anchored after {@code resync_silence_ms} without an accepted datagram, within a session. */
+    public long resyncs() {
+        return extra.get(RESYNCS);
+    }
+
+    /** Times another session was adopted (a restarted sender, keyed links only). */
+    public long sessionChanges() {
+        return extra.get(SESSION_CHANGES);
+    }
+
     @Override
     public String describe() {
         StringBuilder b = new StringBuilder("udp state on ")
                 .append(bind.getHostAddress()).append(':').append(boundPort >= 0 ? boundPort : port)
                 .append(", ").append(size).append(" values, allow ").append(allowlist.entries())
+                .append(key != null ? ", HMAC-SHA-256 " + key : "")
                 .append(": ").append(accepted()).append(" accepted, ").append(rejected()).append(" rejected");
         String sep = " (";
         for (int i = 1; i < STATUSES.length; i++) {
@@ -236,7 +287,11 @@ public final class UdpStateReceiver implements ObservationSource {
         if (!sep.equals(" (")) {
             b.append(')');
         }
-        return b.append(", ").append(missed()).append(" missed").toString();
+        b.append(", ").append(missed()).append(" missed");
+        if (resyncs() > 0 || sessionChanges() > 0) {
+            b.append(", ").append(resyncs()).append(" resyncs, ").append(sessionChanges()).append(" session changes");
+        }
+        return b.toString();
     }
 
     /** Stops the receiving thread and closes the socket; idempotent; waits up to 2 s for the thread. */
@@ -310,21 +365,21 @@ public final class UdpStateReceiver implements ObservationSource {
         if (shape != DatagramStatus.ACCEPTED) {
             return shape;
         }
-        long sequence = codec.sequence();
-        if (anyAccepted) {
-            int order = Long.compareUnsigned(sequence, lastSequence);
-            if (order == 0) {
-                return DatagramStatus.DUPLICATE;
-            }
-            if (order < 0) {
-                return DatagramStatus.OUT_OF_ORDER;
-            }
-            extra.lazySet(MISSED, extra.get(MISSED) + (sequence - lastSequence - 1));
+        long changes = window.sessionChanges();
+        DatagramStatus order = window.offer(codec.session(), codec.sequence(), now);
+        if (order != DatagramStatus.ACCEPTED) {
+            return order;
         }
-        anyAccepted = true;
-        lastSequence = sequence;
         latest.publish(now, codec.time(), scratch);
-        extra.lazySet(LAST_SEQUENCE, sequence);
+        extra.lazySet(MISSED, window.missed());
+        extra.lazySet(LAST_SEQUENCE, window.last());
+        extra.lazySet(LAST_SESSION, window.session());
+        extra.lazySet(RESYNCS, window.resyncs());
+        extra.lazySet(SESSION_CHANGES, window.sessionChanges());
+        if (window.sessionChanges() != changes && window.sessionChanges() <= LOGGED_SESSION_CHANGES) {
+            LOG.warn("UDP state: a new session {} took over after {} ms of silence (change {}; the first {} are logged)",
+                    Long.toHexString(window.session()), silenceMillis, window.sessionChanges(), LOGGED_SESSION_CHANGES);
+        }
         return DatagramStatus.ACCEPTED;
     }
 }

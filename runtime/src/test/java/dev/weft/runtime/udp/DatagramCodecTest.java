@@ -194,8 +194,11 @@ class DatagramCodecTest {
                 .as("a command datagram is not a state datagram").isEqualTo(DatagramStatus.BAD_MAGIC);
 
         byte[] version = good.clone();
-        version[4] = 2;
+        version[4] = 3;
         assertThat(state(ReferenceDatagrams.seal(version), 3)).isEqualTo(DatagramStatus.BAD_VERSION);
+        version[4] = 2;
+        assertThat(state(ReferenceDatagrams.seal(version), 3)).as("version 2 is the keyed layout; this codec has no key")
+                .isEqualTo(DatagramStatus.TAG_NOT_EXPECTED);
 
         byte[] longer = good.clone();
         ReferenceDatagrams.put(longer, 6, longer.length + 8, 2);
@@ -251,8 +254,10 @@ class DatagramCodecTest {
 
         byte[] three = ReferenceDatagrams.command(1, 0, 0, 0, 0, 0, 0, 0, new double[3], new double[3]);
         assertThat(codec.decodeCommand(ByteBuffer.wrap(three), new CommandFrame(2))).isEqualTo(DatagramStatus.WRONG_COUNT);
-        assertThat(codec.decodeCommand(ByteBuffer.wrap(ReferenceDatagrams.state(1, 1, 1)), new CommandFrame(2)))
-                .as("36 bytes, below the 44 of the smallest command datagram").isEqualTo(DatagramStatus.TOO_SHORT);
+        assertThat(codec.decodeCommand(ByteBuffer.wrap(Arrays.copyOf(three, 43)), new CommandFrame(3)))
+                .as("43 bytes, below the 44 of the smallest command datagram").isEqualTo(DatagramStatus.TOO_SHORT);
+        assertThat(codec.decodeCommand(ByteBuffer.wrap(Arrays.copyOf(three, 7)), new CommandFrame(3)))
+                .as("not even magic, version and length").isEqualTo(DatagramStatus.TOO_SHORT);
         byte[] state = ReferenceDatagrams.state(1, 1, 1, 2, 3, 4, 5);
         assertThat(codec.decodeCommand(ByteBuffer.wrap(state), new CommandFrame(2))).isEqualTo(DatagramStatus.BAD_MAGIC);
         byte[] crc = three.clone();

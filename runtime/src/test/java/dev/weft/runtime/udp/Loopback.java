@@ -7,7 +7,9 @@ import java.net.InetAddress;
 import java.net.InetSocketAddress;
 import java.nio.ByteBuffer;
 import java.nio.channels.DatagramChannel;
+import java.nio.file.Files;
 import java.nio.file.Path;
+import java.nio.file.attribute.PosixFilePermissions;
 import java.util.Map;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.locks.LockSupport;
@@ -55,6 +57,27 @@ final class Loopback {
             LockSupport.parkNanos(TimeUnit.MICROSECONDS.toNanos(50));
         }
         return true;
+    }
+
+    /** A key file holding {@code key} as hex text, with mode {@code mode} (such as "rw-------"). */
+    static Path keyFile(Path dir, String name, byte[] key, String mode) throws IOException {
+        Path f = dir.resolve(name);
+        StringBuilder hex = new StringBuilder();
+        for (byte b : key) {
+            hex.append(String.format("%02x", b & 0xFF));
+        }
+        Files.writeString(f, hex + "\n");
+        Files.setPosixFilePermissions(f, PosixFilePermissions.fromString(mode));
+        return f;
+    }
+
+    /** 32 key bytes {@code first, first + 1, …}. */
+    static byte[] key(int first) {
+        byte[] k = new byte[32];
+        for (int i = 0; i < k.length; i++) {
+            k[i] = (byte) (first + i);
+        }
+        return k;
     }
 
     static long allocated(Thread t) {

@@ -1,10 +1,15 @@
 package dev.weft.runtime.udp;
 
+import java.security.GeneralSecurityException;
+import javax.crypto.Mac;
+import javax.crypto.spec.SecretKeySpec;
+
 /**
- * A plain, byte-at-a-time writer of the two datagram layouts exactly as docs/ports.md tables them,
+ * A plain, byte-at-a-time writer of the datagram layouts exactly as docs/ports.md tables them,
  * with its own bitwise CRC-32C, so the codec is checked against something that shares no code with it.
  * Writes any values at all, non-finite ones and bad fields included, so tests can build every
- * malformed datagram with a correct CRC.
+ * malformed datagram with a correct CRC or tag. Version 2 tags are computed with the JDK's
+ * {@code javax.crypto.Mac} directly, not through the codec's {@code DatagramTag}.
  */
 final class ReferenceDatagrams {
 
@@ -67,6 +72,37 @@ final class ReferenceDatagrams {
         }
         seal(b);
         return b;
+    }
+
+    /** A version 2 (keyed) state datagram: session id after the length, HMAC-SHA-256 tag at the end. */
+    static byte[] keyedState(byte[] key, long session, long sequence, long senderNanos, double... values) {
+        byte[] b = new byte[64 + 8 * values.length];
+        b[0] = 'w';
+        b[1] = 'f';
+        b[2] = 't';
+        b[3] = 's';
+        put(b, 4, 2, 2);
+        put(b, 6, b.length, 2);
+        put(b, 8, session, 8);
+        put(b, 16, sequence, 8);
+        put(b, 24, senderNanos, 8);
+        for (int i = 0; i < values.length; i++) {
+            put(b, 32 + 8 * i, Double.doubleToRawLongBits(values[i]), 8);
+        }
+        return tag(key, b);
+    }
+
+    /** Rewrites the trailing 32-byte tag of a version 2 datagram with {@code key}. */
+    static byte[] tag(byte[] key, byte[] b) {
+        try {
+            Mac mac = Mac.getInstance("HmacSHA256");
+            mac.init(new SecretKeySpec(key, "HmacSHA256"));
+            mac.update(b, 0, b.length - 32);
+            System.arraycopy(mac.doFinal(), 0, b, b.length - 32, 32);
+            return b;
+        } catch (GeneralSecurityException e) {
+            throw new IllegalStateException(e);
+        }
     }
 
     /** Rewrites the trailing CRC after a test edited the bytes before it. */
