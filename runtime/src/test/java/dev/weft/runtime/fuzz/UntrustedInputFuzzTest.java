@@ -5,13 +5,13 @@ import static org.assertj.core.api.Assertions.assertThat;
 import com.code_intelligence.jazzer.junit.FuzzTest;
 import dev.weft.runtime.BadInputException;
 import dev.weft.runtime.config.WeftConfig;
-import dev.weft.runtime.port.CommandFrame;
 import dev.weft.runtime.recording.Columns;
 import dev.weft.runtime.recording.Recording;
 import dev.weft.runtime.recording.RecordingSpec;
 import dev.weft.runtime.recording.Recordings;
 import dev.weft.runtime.udp.DatagramCodec;
 import dev.weft.runtime.udp.DatagramStatus;
+import dev.weft.runtime.udp.DatagramTag;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.ByteBuffer;
@@ -37,6 +37,16 @@ import java.util.zip.CRC32C;
 class UntrustedInputFuzzTest {
 
     private static final Path DIR = tempDir();
+    /** The datagram target's key (32 bytes, 0x00 to 0x1f). */
+    private static final byte[] KEY = new byte[32];
+    private static final DatagramTag TAG;
+
+    static {
+        for (int i = 0; i < KEY.length; i++) {
+            KEY[i] = (byte) i;
+        }
+        TAG = new DatagramTag(KEY);
+    }
     private static final Path RECORDING = DIR.resolve("fuzz.csv");
     private static final RecordingSpec SPEC = new RecordingSpec(Optional.empty(), "time",
             Columns.list(List.of("q.a", "q.b")), Columns.list(List.of("a.a", "a.b")), 2, List.of("a", "b"));
@@ -79,10 +89,11 @@ class UntrustedInputFuzzTest {
     }
 
     /**
-     * Datagrams of both kinds. The first byte steers: bit 0 set writes the right CRC-32C over the
-     * rest before decoding (so the fuzzer reaches the checks behind the CRC as well), bit 1 set
-     * decodes a command datagram instead of a state datagram, bits 2 to 4 are the expected count
-     * (0 to 7 values; 1 to 8 joints); the datagram is the bytes after it.
+     * Datagrams of both kinds and both versions. The first byte steers: bit 0 set writes the right
+     * CRC-32C (unkeyed) or HMAC-SHA-256 tag (keyed) over the rest before decoding, so the fuzzer
+     * reaches the checks behind them; bit 1 set decodes with the fixed test key (version 2); the
+     * datagram is the bytes after it, decoded through {@link DatagramCodec#decodeOne}, whose
+     * contract is a status for any bytes at all.
      */
     @FuzzTest(maxDuration = "30s")
     void datagram(byte[] input) {
@@ -90,35 +101,19 @@ class UntrustedInputFuzzTest {
             return;
         }
         boolean seal = (input[0] & 1) != 0;
-        boolean command = (input[0] & 2) != 0;
-        int count = (input[0] >> 2) & 7;
+        byte[] key = (input[0] & 2) != 0 ? KEY : null;
         byte[] bytes = java.util.Arrays.copyOfRange(input, 1, input.length);
-        if (seal && bytes.length >= 4) {
+        if (seal && key == null && bytes.length >= 4) {
             CRC32C crc = new CRC32C();
             crc.update(bytes, 0, bytes.length - 4);
             ByteBuffer.wrap(bytes).order(ByteOrder.LITTLE_ENDIAN).putInt(bytes.length - 4, (int) crc.getValue());
+        } else if (seal && key != null && bytes.length >= DatagramTag.LENGTH) {
+            TAG.compute(ByteBuffer.wrap(bytes), 0, bytes.length - DatagramTag.LENGTH, bytes,
+                    bytes.length - DatagramTag.LENGTH);
         }
-        DatagramCodec codec = new DatagramCodec();
-        ByteBuffer src = ByteBuffer.wrap(bytes);
-        if (command) {
-            CommandFrame out = new CommandFrame(count + 1);
-            DatagramStatus s = codec.decodeCommand(src, out);
-            if (s == DatagramStatus.ACCEPTED) {
-                for (int i = 0; i <= count; i++) {
-                    assertThat(out.positions[i]).isFinite();
-                    assertThat(out.velocities[i]).isFinite();
-                }
-            }
-        } else {
-            double[] out = new double[count];
-            DatagramStatus s = codec.decodeState(src, count, out);
-            if (s == DatagramStatus.ACCEPTED) {
-                for (double v : out) {
-                    assertThat(v).isFinite();
-                }
-            }
-        }
-        assertThat(src.position()).isZero();
-        assertThat(src.limit()).isEqualTo(bytes.length);
+        byte[] before = bytes.clone();
+        DatagramStatus s = DatagramCodec.decodeOne(bytes, key);
+        assertThat(s).isNotNull();
+        assertThat(bytes).as("the datagram is not modified").isEqualTo(before);
     }
 }
