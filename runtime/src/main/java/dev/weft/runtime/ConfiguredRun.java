@@ -80,9 +80,18 @@ public final class ConfiguredRun {
                     + " port.options when port.kind is sim, and with its defaults otherwise"));
         }
         try {
-            Ports.provider(config.port().kind(), "port.kind");
+            // built and closed unopened (no socket, no file), so that weft check refuses what weft
+            // run would: a bad option, a key file others can read, an unauthenticated link off loopback
+            Ports.provider(config.port().kind(), "port.kind").create(config.portOptions()).close();
         } catch (BadInputException e) {
             problems.addAll(e.problems());
+        }
+        if (source.equals("udp")) {
+            try {
+                UdpStateReceiver.create(config.sourceOptions()).close();
+            } catch (BadInputException e) {
+                problems.addAll(e.problems());
+            }
         }
         if (!problems.isEmpty()) {
             throw new BadInputException(problems);

@@ -167,6 +167,22 @@ class RunCommandTest {
                 + "  robot.joints[2].jerk (line 6): must be > 0, got -2" + System.lineSeparator());
     }
 
+    @Test
+    void aKeyFileOthersCanReadIsRefusedByCheckAsByRunBeforeAnythingStarts() throws Exception {
+        Path key = Files.writeString(dir.resolve("link.key"), "00112233445566778899aabbccddeeff"
+                + "00112233445566778899aabbccddeeff\n");
+        Files.setPosixFilePermissions(key, java.nio.file.attribute.PosixFilePermissions.fromString("rw-r--r--"));
+        Path cfg = writeConfig(9, "");
+        Files.writeString(cfg, Files.readString(cfg).replace("    queue: 1024\n", "    queue: 1024\n    key_file: link.key\n"));
+        for (String command : new String[] {"check", "run"}) {
+            InspectCommandTest.Run r = InspectCommandTest.weft(command, cfg.toString());
+            assertThat(r.exit()).as(command + ": " + r.out() + r.err()).isEqualTo(2);
+            assertThat(r.err()).as(command).contains("port.options.key_file: the key file " + key.toAbsolutePath()
+                    + " has mode 0644").doesNotContain("\tat ");
+            assertThat(r.out()).as(command).doesNotContain("armed");
+        }
+    }
+
     /** A loopback receiver of command datagrams on a thread of its own, in arrival order. */
     static final class Receiver implements AutoCloseable {
         final List<Long> sequences = new ArrayList<>();
