@@ -392,23 +392,24 @@ public final class ControlLoop implements AutoCloseable {
         return st.length > 0 ? st[0].toString() : "an unknown place";
     }
 
-    /** Raises the loop-stalled alarm: the state, the event, the port's hook, the counter. Any thread. */
+    /** Raises the loop-stalled alarm: the counter, the state, the port's hook, then the event. Any thread. */
     private synchronized void raiseStall(long atTick, String why) {
         details.set(WatchdogCondition.LOOP_STALLED.code(), why);
         stalls.incrementAndGet();
         stallActive = true;
         stallPending = true;
         SupervisorState from = state;
-        try {
-            alarmListener.onTransition(atTick, atTick * period, from, SupervisorState.STALLED,
-                    WatchdogCondition.LOOP_STALLED.code());
-        } catch (RuntimeException ignored) {
-            // an alarm listener's failure must not stop the port from hearing of the stall
-        }
+        // the port first: it is the one part that may still act on the hardware
         try {
             port.loopStalled(atTick);
         } catch (Throwable ignored) {
             // documented: the hook's exceptions are ignored
+        }
+        try {
+            alarmListener.onTransition(atTick, atTick * period, from, SupervisorState.STALLED,
+                    WatchdogCondition.LOOP_STALLED.code());
+        } catch (RuntimeException ignored) {
+            // a listener's failure must not end the monitor
         }
     }
 
