@@ -11,6 +11,7 @@ import dev.weft.runtime.BadInputException.Problem;
 import dev.weft.runtime.config.BlendingConfig;
 import dev.weft.runtime.config.JointConfig;
 import dev.weft.runtime.config.SmoothingConfig;
+import dev.weft.runtime.config.TelemetryConfig;
 import dev.weft.runtime.config.TimingConfig;
 import dev.weft.runtime.config.WatchdogConfig;
 import dev.weft.runtime.config.WeftConfig;
@@ -24,6 +25,7 @@ import dev.weft.runtime.port.SimPort;
 import dev.weft.runtime.source.ObservationSource;
 import dev.weft.runtime.source.SimulatedPlant;
 import dev.weft.runtime.source.SimulatedSource;
+import dev.weft.runtime.telemetry.TargetFile;
 import dev.weft.runtime.udp.UdpStateReceiver;
 import dev.weft.safety.JointLimits;
 import dev.weft.safety.StopCategory;
@@ -260,8 +262,36 @@ public final class ConfiguredRun {
                 .planRangeSlack(config.watchdog().planRangeSlack())
                 .stallPeriods(config.watchdog().stallPeriods())
                 .spinWindow(t.spinWindow());
-        config.telemetry().file().ifPresent(b::telemetry);
+        TelemetryConfig tc = config.telemetry();
+        tc.file().ifPresent(f -> b.telemetry(f).telemetryOverwrite(tc.overwrite())
+                .telemetryDrainTimeout(tc.drainTimeout()));
         return b;
+    }
+
+    /**
+     * Checks that the telemetry file can be written as configured: its folder exists and takes a
+     * new file (proved by creating and deleting the partial file), it is not a folder or a special
+     * file, and it does not exist unless {@code telemetry.overwrite} (or the command line's
+     * {@code --overwrite}) allows replacing it. Leaves nothing behind and never touches the file
+     * itself. Nothing to check when no telemetry file is configured.
+     *
+     * @return the resolved target, or null when no telemetry file is configured
+     * @throws BadInputException naming {@code telemetry.file} (with its line), the resolved path and why
+     */
+    public TargetFile checkTelemetry() throws BadInputException {
+        TelemetryConfig tc = config.telemetry();
+        if (tc.file().isEmpty()) {
+            return null;
+        }
+        try {
+            TargetFile t = TargetFile.resolve(tc.file().get(), tc.overwrite());
+            t.probe();
+            return t;
+        } catch (TargetFile.Refused e) {
+            String hint = e.reason() == TargetFile.Reason.EXISTS
+                    ? "; pass --overwrite or set telemetry.overwrite: true to replace it" : "";
+            throw new BadInputException(tc.where(), e.getMessage() + hint);
+        }
     }
 
     private ObservationSource source(Policy policy, CommandPort port, dev.weft.runtime.loop.LoopClock clock,

@@ -20,6 +20,8 @@ import dev.weft.runtime.source.EmbeddedSource;
 import dev.weft.runtime.source.ObservationSource;
 import dev.weft.runtime.telemetry.CsvRecorder;
 import dev.weft.runtime.telemetry.TelemetryFormat;
+import dev.weft.runtime.telemetry.RowCounts;
+import dev.weft.runtime.telemetry.TargetFile;
 import dev.weft.runtime.telemetry.TelemetryRow;
 import dev.weft.safety.JointLimits;
 import dev.weft.safety.StopCategory;
@@ -28,7 +30,6 @@ import dev.weft.safety.SupervisorState;
 import dev.weft.safety.TransitionListener;
 import dev.weft.safety.Watchdog;
 import java.io.IOException;
-import java.io.UncheckedIOException;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
@@ -100,7 +101,8 @@ public final class Weft implements AutoCloseable {
      * Opens the port, starts the source and the inference worker, waits for the first observation
      * and starts the loop, disarmed.
      *
-     * @throws IOException when the port or source cannot be opened; nothing is left running
+     * @throws IOException when the port or source cannot be opened; nothing is left running, and
+     *     no telemetry file is left behind
      * @throws IllegalStateException when no observation arrives in time
      */
     public synchronized void start() throws IOException {
@@ -116,6 +118,10 @@ public final class Weft implements AutoCloseable {
             }
             loop.start("weft-loop");
         } catch (IOException | RuntimeException e) {
+            if (telemetry != null) {
+                // the run never ran: no telemetry file is left behind
+                telemetry.discard();
+            }
             close();
             throw e;
         }
@@ -194,6 +200,24 @@ public final class Weft implements AutoCloseable {
         return loop.status();
     }
 
+    /**
+     * What became of the telemetry rows so far (final once {@link #close()} returned), or null when
+     * the run records no telemetry.
+     */
+    public RowCounts telemetryCounts() {
+        return telemetry == null ? null : telemetry.counts();
+    }
+
+    /** The telemetry recorder's first failure (the file and why), or null. */
+    public String telemetryFailure() {
+        return telemetry == null ? null : telemetry.failure();
+    }
+
+    /** The telemetry file (resolved), or null when the run records no telemetry. */
+    public Path telemetryFile() {
+        return telemetry == null ? null : telemetry.file();
+    }
+
     /** The loop, for timing readouts ({@link ControlLoop#histograms}). */
     public ControlLoop loop() {
         return loop;
@@ -211,8 +235,9 @@ public final class Weft implements AutoCloseable {
 
     /**
      * Ends the run: a moving robot is brought to a controlled stop first, then the loop, the
-     * worker, the source, the port and the telemetry file are closed (every row flushed).
-     * Idempotent.
+     * worker, the source, the port and the telemetry file are closed. Closing the telemetry waits
+     * at most its drain timeout for the writer; {@link #telemetryCounts()} and
+     * {@link #telemetryFailure()} then say what was written and what was lost. Idempotent.
      */
     @Override
     public synchronized void close() {
@@ -226,13 +251,8 @@ public final class Weft implements AutoCloseable {
         run(errors, source::close);
         run(errors, port::close);
         if (telemetry != null) {
-            run(errors, () -> {
-                try {
-                    telemetry.close();
-                } catch (IOException e) {
-                    throw new UncheckedIOException(e);
-                }
-            });
+            // bounded by the drain timeout; what it could not write is counted, not thrown
+            run(errors, telemetry::close);
         }
         if (relay != null) {
             run(errors, relay::close);
@@ -276,6 +296,8 @@ public final class Weft implements AutoCloseable {
         private int queryEvery;
         private double spinWindow = 0.0002;
         private Path telemetryFile;
+        private boolean telemetryOverwrite;
+        private long telemetryDrainNanos = CsvRecorder.DEFAULT_DRAIN_TIMEOUT_NANOS;
         private WeftListener listener;
         private LoopClock clock = LoopClock.system();
         private WaitStrategy wait;
@@ -391,9 +413,31 @@ public final class Weft implements AutoCloseable {
             return this;
         }
 
-        /** Writes one telemetry row per tick to this CSV file. */
+        /**
+         * Writes one telemetry row per tick to this CSV file: into {@code <file>.incomplete} during
+         * the run, moved onto {@code file} when the run closes. An existing file is refused unless
+         * {@link #telemetryOverwrite} allows replacing it.
+         */
         public Builder telemetry(Path file) {
             this.telemetryFile = file;
+            return this;
+        }
+
+        /** Whether an existing telemetry file may be replaced (when the run closes); default false. */
+        public Builder telemetryOverwrite(boolean replace) {
+            this.telemetryOverwrite = replace;
+            return this;
+        }
+
+        /**
+         * How long opening the telemetry file and closing the run wait for the recorder's writer,
+         * seconds; rows it has not written by then are counted as lost. Default 2.
+         */
+        public Builder telemetryDrainTimeout(double seconds) {
+            if (!(seconds > 0 && seconds < 1e6)) {
+                throw new IllegalArgumentException("telemetry drain timeout must be > 0 s, got " + seconds);
+            }
+            this.telemetryDrainNanos = Math.round(seconds * 1e9);
             return this;
         }
 
@@ -467,9 +511,12 @@ public final class Weft implements AutoCloseable {
         }
 
         /**
-         * Checks that the parts fit together and builds the run; nothing starts.
+         * Checks that the parts fit together and builds the run; nothing starts but the telemetry
+         * recorder's thread, with its partial file created.
          *
          * @throws IllegalArgumentException naming what does not fit
+         * @throws IOException when the telemetry file is refused ({@link TargetFile}) or cannot be
+         *     created; nothing is left behind
          */
         public Weft build() throws IOException {
             if (policy == null) {
@@ -517,9 +564,22 @@ public final class Weft implements AutoCloseable {
                 for (int i = 0; i < joints; i++) {
                     names.add(limits.name(i));
                 }
-                rec = CsvRecorder.open(telemetryFile, 1 << 14, () -> new TelemetryRow(joints), new TelemetryFormat(names),
+                rec = CsvRecorder.open(TargetFile.resolve(telemetryFile, telemetryOverwrite), 1 << 14,
+                        telemetryDrainNanos, () -> new TelemetryRow(joints), new TelemetryFormat(names),
                         "weft-telemetry");
             }
+            try {
+                return build(joints, src, embedded, periodNanos, b, w, ws, inf, rec);
+            } catch (RuntimeException e) {
+                if (rec != null) {
+                    rec.discard();
+                }
+                throw e;
+            }
+        }
+
+        private Weft build(int joints, ObservationSource src, EmbeddedSource embedded, long periodNanos,
+                           ChunkBlender b, Watchdog w, WaitStrategy ws, Inference inf, CsvRecorder<TelemetryRow> rec) {
             EventRelay relay = listener == null ? null : new EventRelay(listener);
             TransitionListener tl = relay == null ? TransitionListener.NONE : relay;
             LoopSettings settings = new LoopSettings(periodNanos, queryEvery,

@@ -6,7 +6,9 @@ import dev.weft.runtime.config.TimingConfig;
 import dev.weft.runtime.config.WatchdogConfig;
 import dev.weft.runtime.config.WeftConfig;
 import dev.weft.runtime.policy.OnnxPolicy;
+import dev.weft.runtime.telemetry.TargetFile;
 import java.io.PrintWriter;
+import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Locale;
 import java.util.concurrent.Callable;
@@ -32,6 +34,10 @@ final class CheckCommand implements Callable<Integer> {
     @Option(names = "--runs", paramLabel = "N", defaultValue = "500",
             description = "inference calls to measure (default ${DEFAULT-VALUE})")
     int runs;
+
+    @Option(names = "--overwrite",
+            description = "check as `weft run --overwrite` runs: an existing telemetry file may be replaced")
+    boolean overwrite;
 
     @CommandLine.Spec
     CommandLine.Model.CommandSpec spec;
@@ -68,9 +74,14 @@ final class CheckCommand implements Callable<Integer> {
         WeftConfig c;
         ConfiguredRun run;
         OnnxPolicy policy;
+        TargetFile telemetry;
         try {
             c = WeftConfig.load(config);
+            if (overwrite) {
+                c = c.withTelemetry(c.telemetry().overwriting());
+            }
             run = ConfiguredRun.of(c);
+            telemetry = run.checkTelemetry();
             policy = run.loadPolicy();
         } catch (BadInputException e) {
             err.println("weft check: " + e.getMessage());
@@ -84,6 +95,10 @@ final class CheckCommand implements Callable<Integer> {
             out.printf(Locale.ROOT, "model          %s: K = %d actions of D = %d values (layout %s, output '%s')%n",
                     c.policy().model(), policy.chunkLength(), policy.actionSize(), policy.layout().label(),
                     policy.outputName());
+            if (telemetry != null) {
+                out.printf("telemetry      %s (%s when the run ends)%n", telemetry.file(),
+                        Files.exists(telemetry.file()) ? "replaced" : "written");
+            }
             for (WatchdogConfig.Disabled d : c.watchdog().disabled()) {
                 out.printf("warning        watchdog condition %s is switched off: %s%n", d.condition().label(), d.reason());
             }

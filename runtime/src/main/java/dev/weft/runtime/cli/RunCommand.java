@@ -3,6 +3,7 @@ package dev.weft.runtime.cli;
 import dev.weft.runtime.BadInputException;
 import dev.weft.runtime.ConfiguredRun;
 import dev.weft.runtime.Weft;
+import dev.weft.runtime.config.TelemetryConfig;
 import dev.weft.runtime.config.WatchdogConfig;
 import dev.weft.runtime.config.WeftConfig;
 import dev.weft.runtime.loop.ControlLoop;
@@ -10,6 +11,8 @@ import dev.weft.runtime.loop.LoopClock;
 import dev.weft.runtime.loop.LoopStatus;
 import dev.weft.runtime.policy.OnnxPolicy;
 import dev.weft.runtime.port.CommandPort;
+import dev.weft.runtime.telemetry.RowCounts;
+import dev.weft.runtime.telemetry.TargetFile;
 import dev.weft.safety.SupervisorState;
 import java.io.IOException;
 import java.io.PrintWriter;
@@ -32,8 +35,8 @@ import picocli.CommandLine.Parameters;
  */
 @Command(name = "run", mixinStandardHelpOptions = true,
         description = "Run a configuration live. Without --arm only hold commands go out. Ctrl-C stops the"
-                + " robot under control, flushes and exits (exit 0 ended cleanly, 1 ended faulted or arming was"
-                + " refused, 2 could not start, 3 the control loop stalled).")
+                + " robot under control, flushes and exits (exit 0 ended cleanly, 1 ended faulted, arming was"
+                + " refused or telemetry rows were lost, 2 could not start, 3 the control loop stalled).")
 final class RunCommand implements Callable<Integer> {
 
     private static final Logger LOG = LoggerFactory.getLogger("weft.run");
@@ -47,6 +50,10 @@ final class RunCommand implements Callable<Integer> {
     @Option(names = "--duration", paramLabel = "SECONDS", defaultValue = "0",
             description = "stop after this long (default: run until Ctrl-C)")
     double duration;
+
+    @Option(names = "--overwrite",
+            description = "replace an existing telemetry file (as telemetry.overwrite: true does)")
+    boolean overwrite;
 
     @Option(names = "--status-every", paramLabel = "SECONDS", defaultValue = "1",
             description = "seconds between status lines (default ${DEFAULT-VALUE})")
@@ -64,24 +71,40 @@ final class RunCommand implements Callable<Integer> {
         Weft weft;
         try {
             WeftConfig c = WeftConfig.load(config);
+            if (overwrite) {
+                c = c.withTelemetry(c.telemetry().overwriting());
+            }
             ConfiguredRun run = ConfiguredRun.of(c);
+            run.checkTelemetry();
             for (WatchdogConfig.Disabled d : c.watchdog().disabled()) {
                 LOG.warn("watchdog condition {} is switched off: {}", d.condition().label(), d.reason());
             }
             OnnxPolicy policy = run.loadPolicy();
-            CommandPort port;
+            CommandPort port = null;
             try {
                 port = run.port();
-            } catch (BadInputException e) {
+                weft = run.builder(policy, port, LoopClock.system(), null)
+                        .listener((tick, time, from, to, cause, message) ->
+                                LOG.info("tick {}: {} -> {}: {}", tick, name(from), name(to), message))
+                        .build();
+            } catch (BadInputException | IOException | RuntimeException e) {
+                if (port != null) {
+                    port.close();
+                }
                 policy.close();
                 throw e;
             }
-            weft = run.builder(policy, port, LoopClock.system(), null)
-                    .listener((tick, time, from, to, cause, message) ->
-                            LOG.info("tick {}: {} -> {}: {}", tick, name(from), name(to), message))
-                    .build();
         } catch (BadInputException e) {
             err.println("weft run: " + e.getMessage());
+            err.flush();
+            return WeftCommand.COULD_NOT_RUN;
+        } catch (TargetFile.Refused e) {
+            // the file system changed since the check above
+            err.println("weft run: " + TelemetryConfig.FILE_KEY + ": " + e.getMessage());
+            err.flush();
+            return WeftCommand.COULD_NOT_RUN;
+        } catch (IOException | RuntimeException e) {
+            err.println("weft run: could not start: " + e.getMessage());
             err.flush();
             return WeftCommand.COULD_NOT_RUN;
         }
@@ -95,7 +118,7 @@ final class RunCommand implements Callable<Integer> {
         } catch (IOException | RuntimeException e) {
             err.println("weft run: could not start: " + e.getMessage());
             err.flush();
-            weft.close();
+            closeReporting(weft, out);
             return WeftCommand.COULD_NOT_RUN;
         }
         Runtime.getRuntime().addShutdownHook(hook);
@@ -126,8 +149,18 @@ final class RunCommand implements Callable<Integer> {
         }
         LoopStatus s = weft.status();
         out.printf(Locale.ROOT, "ended %s after %d ticks: %d overruns, %d deadlines skipped, %d chunks, %d inference"
-                        + " failures, %d frames dropped by the port, %d telemetry rows lost%n", s.state(), s.ticks(),
-                s.overruns(), s.skipped(), s.chunksAccepted(), s.inferenceFailures(), s.portDropped(), s.telemetryLost());
+                        + " failures, %d frames dropped by the port, %s%n", s.state(), s.ticks(),
+                s.overruns(), s.skipped(), s.chunksAccepted(), s.inferenceFailures(), s.portDropped(),
+                s.telemetry() == null ? "no telemetry" : "telemetry: " + s.telemetry());
+        if (weft.telemetryFailure() != null) {
+            out.println("telemetry failed: " + weft.telemetryFailure());
+            exit = WeftCommand.VERDICT_FAILED;
+        } else if (s.telemetry() != null) {
+            out.println("telemetry in " + weft.telemetryFile());
+            if (s.telemetry().lost() > 0) {
+                exit = WeftCommand.VERDICT_FAILED;
+            }
+        }
         int cause = weft.loop().supervisor() == null ? 0 : weft.loop().supervisor().latchedCause();
         if (cause != 0) {
             String detail = weft.faultDetail(cause);
@@ -185,11 +218,14 @@ final class RunCommand implements Callable<Integer> {
             if (now >= next) {
                 weft.loop().histograms(h);
                 LoopStatus s = weft.status();
+                RowCounts t = s.telemetry();
                 out.printf(Locale.ROOT, "%-9s ticks %d  overruns %d  period error p99 %s  inference p50 %s p99 %s"
-                                + "  plan %d ticks%n", s.state(), s.ticks(), s.overruns(),
+                                + "  plan %d ticks%s%n", s.state(), s.ticks(), s.overruns(),
                         Units.seconds(h.periodError().getValueAtPercentile(99) / 1e9),
                         Units.seconds(h.inference().getValueAtPercentile(50) / 1e9),
-                        Units.seconds(h.inference().getValueAtPercentile(99) / 1e9), s.planTicks());
+                        Units.seconds(h.inference().getValueAtPercentile(99) / 1e9), s.planTicks(),
+                        t == null ? "" : String.format(Locale.ROOT, "  telemetry %d handed %d written %d lost",
+                                t.handed(), t.written(), t.lost()));
                 out.flush();
                 next += every;
             }

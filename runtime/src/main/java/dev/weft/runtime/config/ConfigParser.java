@@ -11,6 +11,7 @@ import dev.weft.runtime.policy.PolicySpec;
 import dev.weft.runtime.policy.SessionSettings;
 import dev.weft.runtime.recording.Columns;
 import dev.weft.runtime.recording.RecordingFormat;
+import dev.weft.runtime.telemetry.TargetFile;
 import java.math.BigDecimal;
 import java.math.MathContext;
 import java.nio.file.Files;
@@ -578,21 +579,25 @@ final class ConfigParser {
         }
         int before = r.count();
         Optional<Path> file = Optional.empty();
+        Boolean overwrite = s.flag("overwrite", false);
+        Double drain = s.positive("drain_timeout", TelemetryConfig.DEFAULT_DRAIN_TIMEOUT);
         if (s.has("file")) {
             String text = s.text("file", null);
             if (text != null) {
                 Path p = baseDir.resolve(text).normalize();
-                Path folder = p.getParent();
-                if (Files.isDirectory(p)) {
-                    s.problem("file", "is a folder, not a file: " + p);
-                } else if (folder == null || !Files.isDirectory(folder)) {
-                    s.problem("file", "folder not found: " + folder);
+                // everything but an existing file, which --overwrite may still allow: the run's
+                // own check (ConfiguredRun.checkTelemetry) decides that one
+                try {
+                    TargetFile.resolve(p, true);
+                } catch (TargetFile.Refused e) {
+                    s.problem("file", e.getMessage());
                 }
                 file = Optional.of(p);
             }
         }
+        String where = r.where(s.pathOf("file"));
         s.done();
-        return r.count() == before ? new TelemetryConfig(file) : null;
+        return r.count() == before ? new TelemetryConfig(file, where, overwrite, drain) : null;
     }
 
     // ---- recording and gates

@@ -50,8 +50,16 @@ final class TreeReader {
     /** Records a problem at {@code path}, shown with the line of the key at {@code linePath}. */
     void addAt(String path, String linePath, String what) {
         int line = linePath.isEmpty() && !path.isEmpty() ? 0 : tree.line(linePath);
-        String where = KeyPath.display(path) + (line > 0 ? " (line " + line + ")" : "");
-        problems.add(new Found(line, problems.size(), new Problem(where, what)));
+        problems.add(new Found(line, problems.size(), new Problem(where(path, line), what)));
+    }
+
+    /** How a problem names the key at {@code path}: its display path and line, for checks made later. */
+    String where(String path) {
+        return where(path, path.isEmpty() ? 0 : tree.line(path));
+    }
+
+    private static String where(String path, int line) {
+        return KeyPath.display(path) + (line > 0 ? " (line " + line + ")" : "");
     }
 
     /** The number of problems recorded so far. */

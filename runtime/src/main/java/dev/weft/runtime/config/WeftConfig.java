@@ -70,6 +70,12 @@ public record WeftConfig(RobotConfig robot, TimingConfig timing, PolicySpec poli
                 GatesConfig.DEFAULTS);
     }
 
+    /** This configuration with another telemetry section (the command line's {@code --overwrite}). */
+    public WeftConfig withTelemetry(TelemetryConfig t) {
+        return new WeftConfig(robot, timing, policy, blending, smoothing, watchdog, arming, source, port, t, recording,
+                gates);
+    }
+
     /** Largest configuration file read: 1 MiB. */
     public static final int MAX_FILE_BYTES = 1 << 20;
 

@@ -14,6 +14,7 @@ import dev.weft.runtime.recording.Recording;
 import dev.weft.runtime.source.ObservationSource;
 import dev.weft.runtime.source.SimulatedPlant;
 import dev.weft.runtime.source.SimulatedSource;
+import dev.weft.runtime.telemetry.RowCounts;
 import dev.weft.safety.Cause;
 import dev.weft.safety.JerkLimiter;
 import dev.weft.safety.JointLimits;
@@ -143,6 +144,9 @@ public final class DryRun {
         Weft.Builder b = run.builderWithoutSource(policy, port)
                 .source(source)
                 .telemetry(telemetry)
+                // the report folder's files are the dry run's own: replaced, each moved into place at the end
+                .telemetryOverwrite(true)
+                .telemetryDrainTimeout(run.config().telemetry().drainTimeout())
                 .armWhenPlanned(true)
                 .maxTicks(ticks)
                 .firstObservationTimeout(5)
@@ -185,6 +189,11 @@ public final class DryRun {
         if (weft.loop().failure() != null) {
             throw new IOException("the dry run's loop ended on an error: " + weft.loop().failure(), weft.loop().failure());
         }
+        if (weft.telemetryFailure() != null) {
+            throw new IOException("the dry run's telemetry failed: " + weft.telemetryFailure() + " ("
+                    + weft.telemetryCounts() + ")");
+        }
+        RowCounts rows = weft.telemetryCounts();
         Files.deleteIfExists(o.reportDir().resolve("summary.json"));
         Series s = Series.read(telemetry, joints);
         long commandRows = countRows(commands);
@@ -197,13 +206,13 @@ public final class DryRun {
             }
         }
         return finish(run, recording, o, s, commandRows, violations, staleDropped, stops, inferenceMs, latencyMs,
-                latencyTicks, weft.loop().autoArmResult(), commands, telemetry);
+                latencyTicks, weft.loop().autoArmResult(), commands, telemetry, rows);
     }
 
     private static Result finish(ConfiguredRun run, Recording recording, Options o, Series s, long commandRows,
                                  long violations, long staleDropped, List<DryRunSummary.Stop> stops,
                                  DryRunSummary.Percentiles inferenceMs, double[] latencyMs, long latencyTicks,
-                                 int armOutcome, Path commands, Path telemetry) throws IOException {
+                                 int armOutcome, Path commands, Path telemetry, RowCounts rows) throws IOException {
         JointLimits limits = run.limits();
         int joints = limits.count();
         int n = s.ticks;
@@ -271,7 +280,8 @@ public final class DryRun {
                 staleDropped, violations, armOutcome == 0);
         boolean passed = gates.stream().allMatch(DryRunSummary.Gate::passed);
         DryRunSummary summary = new DryRunSummary(o.name(), recording.source(), names, o.closedLoop(), o.realtime(),
-                run.config().timing().controlPeriod(), o.realtime() ? -1 : latencyTicks, n, commandRows, n, violations,
+                run.config().timing().controlPeriod(), o.realtime() ? -1 : latencyTicks, n, commandRows, rows.written(),
+                rows.handed(), rows.lost(), violations,
                 rms, max, new DryRunSummary.LimitCounts(pos, vel, acc, jerk), staleDropped, starved, events,
                 List.copyOf(stops), inferenceMs, periodErrorMs, passed, gates);
         List<DryRunTrace.JointTrace> traces = new ArrayList<>();
@@ -443,6 +453,8 @@ public final class DryRun {
         m.put("ticks", s.ticks());
         m.put("commands", s.commands());
         m.put("telemetry_rows", s.telemetryRows());
+        m.put("telemetry_rows_handed", s.telemetryHanded());
+        m.put("telemetry_rows_lost", s.telemetryLost());
         m.put("bound_violations", s.boundViolations());
         m.put("rms_error", finiteOrNull(s.rmsError()));
         m.put("max_error", finiteOrNull(s.maxError()));

@@ -16,7 +16,9 @@ import java.util.List;
  * @param latencyTicks the modelled inference latency, ticks (virtual time); -1 on real time
  * @param ticks ticks run
  * @param commands command frames the port wrote
- * @param telemetryRows telemetry rows written
+ * @param telemetryRows telemetry rows written (whole rows in telemetry.csv)
+ * @param telemetryHanded telemetry rows the loop handed to the recorder (one per tick run)
+ * @param telemetryLost telemetry rows lost (never in the file); handed = written + lost
  * @param boundViolations ticks where the command file's finite differences exceed a limit (re-checked independently); must be 0
  * @param rmsError per joint, RMS of command − recorded action over ticks where the recording has one
  * @param maxError per joint, largest |command − recorded action|
@@ -32,7 +34,7 @@ import java.util.List;
  */
 public record DryRunSummary(String name, String recording, List<String> joints, boolean closedLoop, boolean realtime,
                             double controlPeriod, long latencyTicks, long ticks, long commands, long telemetryRows,
-                            long boundViolations, double[] rmsError, double[] maxError, LimitCounts limitActive,
+                            long telemetryHanded, long telemetryLost, long boundViolations, double[] rmsError, double[] maxError, LimitCounts limitActive,
                             long staleDropped, long starvedTicks, long watchdogEvents, List<Stop> stops,
                             Percentiles inferenceMs, Percentiles periodErrorMs, boolean passed, List<Gate> gates) {
 

@@ -988,7 +988,7 @@ public final class ControlLoop implements AutoCloseable {
     public LoopStatus status() {
         return new LoopStatus(state.name().toLowerCase(java.util.Locale.ROOT), ticks.get(), overruns.get(),
                 skipped.get(), planTicks.get(), (int) watchdogMask.get(), blender.acceptedChunks(), blender.staleSteps(),
-                inferences.get(), inferenceFailures.get(), port.dropped(), telemetry == null ? 0 : telemetry.lost());
+                inferences.get(), inferenceFailures.get(), port.dropped(), telemetry == null ? null : telemetry.counts());
     }
 
     /** The three timing histograms, moved out of the recorders since the previous call. */

@@ -1,5 +1,7 @@
 package dev.weft.runtime.loop;
 
+import dev.weft.runtime.telemetry.RowCounts;
+
 /**
  * A snapshot of a running loop, for status lines and the embedding API.
  *
@@ -14,9 +16,15 @@ package dev.weft.runtime.loop;
  * @param inferences inferences finished (any status)
  * @param inferenceFailures inferences that threw or returned non-finite values
  * @param portDropped frames the port dropped
- * @param telemetryLost telemetry rows that could not be recorded
+ * @param telemetry what became of the telemetry rows (handed over, written, lost, pending), or null
+ *     when the run records no telemetry
  */
 public record LoopStatus(String state, long ticks, long overruns, long skipped, long planTicks, int watchdogMask,
                          long chunksAccepted, long staleSteps, long inferences, long inferenceFailures,
-                         long portDropped, long telemetryLost) {
+                         long portDropped, RowCounts telemetry) {
+
+    /** Telemetry rows lost so far; 0 when the run records no telemetry. */
+    public long telemetryLost() {
+        return telemetry == null ? 0 : telemetry.lost();
+    }
 }

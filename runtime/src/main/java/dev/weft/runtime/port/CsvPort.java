@@ -2,6 +2,7 @@ package dev.weft.runtime.port;
 
 import dev.weft.runtime.BadInputException;
 import dev.weft.runtime.telemetry.CsvRecorder;
+import dev.weft.runtime.telemetry.TargetFile;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.file.Path;
@@ -30,7 +31,8 @@ public final class CsvPort implements CommandPort {
     private long emitted;
 
     /**
-     * @param file the file to write (truncated at open)
+     * @param file the file to write: written as {@code <file>.incomplete} and moved onto {@code file}
+     *     (replacing it) when the port closes
      * @param jointNames column names; empty for {@code j0, j1, …}
      */
     public CsvPort(Path file, List<String> jointNames, int ringSize) {
@@ -60,7 +62,8 @@ public final class CsvPort implements CommandPort {
         if (names.size() != joints) {
             throw new IOException("csv port: " + names.size() + " joint names for " + joints + " joints");
         }
-        recorder = CsvRecorder.open(file, ringSize, () -> new CommandFrame(joints), new Format(names), "weft-csv-port");
+        recorder = CsvRecorder.open(TargetFile.resolve(file, true), ringSize, CsvRecorder.DEFAULT_DRAIN_TIMEOUT_NANOS,
+                () -> new CommandFrame(joints), new Format(names), "weft-csv-port");
     }
 
     @Override
@@ -108,10 +111,9 @@ public final class CsvPort implements CommandPort {
     @Override
     public void close() {
         if (recorder != null) {
-            try {
-                recorder.close();
-            } catch (IOException e) {
-                throw new UncheckedIOException("csv port: writing " + file + " failed", e);
+            recorder.close();
+            if (recorder.failure() != null) {
+                throw new UncheckedIOException("csv port: " + recorder.failure(), new IOException(recorder.failure()));
             }
         }
     }

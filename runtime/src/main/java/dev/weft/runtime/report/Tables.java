@@ -41,7 +41,9 @@ final class Tables {
                 s.latencyTicks() < 0 ? "not modelled (real time)" : Long.toString(s.latencyTicks()));
         row(m, "ticks", "ticks run", Long.toString(s.ticks()));
         row(m, "commands", "command frames written", Long.toString(s.commands()));
+        row(m, "telemetryHanded", "telemetry rows handed to the recorder", Long.toString(s.telemetryHanded()));
         row(m, "telemetryRows", "telemetry rows written", Long.toString(s.telemetryRows()));
+        row(m, "telemetryLost", "telemetry rows lost (must be 0)", Long.toString(s.telemetryLost()));
         row(m, "boundViolations", "ticks beyond a limit in the command file (must be 0)",
                 Long.toString(s.boundViolations()));
         row(m, "staleDropped", "chunk steps dropped as already past", Long.toString(s.staleDropped()));

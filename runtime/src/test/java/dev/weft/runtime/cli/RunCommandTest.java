@@ -100,8 +100,12 @@ class RunCommandTest {
                 assertThat(ticks.get(i)).isGreaterThan(ticks.get(i - 1));
             }
             assertThat(states).contains(CommandFrame.STATE_ARMED);
-            // the telemetry file has one row per tick as well
+            // the telemetry file has one row per tick as well, and the end line counts them
             assertThat(Files.readAllLines(dir.resolve("telemetry.csv"))).hasSize((int) ran + 1);
+            assertThat(r.out()).contains("telemetry: " + ran + " rows handed over, " + ran + " written, 0 lost");
+            assertThat(r.out()).contains("telemetry in " + dir.toRealPath().resolve("telemetry.csv"));
+            assertThat(dir.resolve("telemetry.csv.incomplete")).doesNotExist();
+            assertThat(r.out()).containsPattern("telemetry \\d+ handed \\d+ written 0 lost");
         }
     }
 
@@ -123,16 +127,20 @@ class RunCommandTest {
                     WeftCommand.class.getName(), "run", cfg.toString(), "--arm")
                     .redirectErrorStream(true).redirectOutput(dir.resolve("child.log").toFile()).start();
             Path telemetry = dir.resolve("telemetry.csv");
+            // during the run the rows go to the partial file; it gets the final name at the end
+            Path partial = dir.resolve("telemetry.csv.incomplete");
             long until = System.nanoTime() + 30_000_000_000L;
-            while (System.nanoTime() < until && (!Files.exists(telemetry) || Files.size(telemetry) < 50_000)) {
+            while (System.nanoTime() < until && (!Files.exists(partial) || Files.size(partial) < 50_000)) {
                 Thread.sleep(50);
             }
+            assertThat(telemetry).as("the final name appears only when the run ends").doesNotExist();
             p.destroy();
             assertThat(p.waitFor(30, java.util.concurrent.TimeUnit.SECONDS)).isTrue();
             rx.stopAfter(300);
             String log = Files.readString(dir.resolve("child.log"));
             assertThat(log).contains("weft run: stopping (controlled stop, then flush)");
             List<String> rows = Files.readAllLines(telemetry);
+            assertThat(partial).doesNotExist();
             assertThat(sequences.size()).as(log).isGreaterThan(100);
             assertThat(rows).as("a row for every command sent; " + log).hasSize(sequences.size() + 1);
             // the last rows are the controlled stop's: the robot ended at rest, disarmed

@@ -172,7 +172,8 @@ class WeftConfigTest {
         assertThat(c.port().kind()).isEqualTo("csv");
         assertThat(c.port().options()).isEqualTo(Map.of("file", "out/commands.csv", "flush_every", 100,
                 "nested", Map.of("on", true, "gains", List.of(1, 2.5))));
-        assertThat(c.telemetry()).isEqualTo(new TelemetryConfig(Optional.of(dir.resolve("out/telemetry.csv"))));
+        assertThat(c.telemetry()).isEqualTo(new TelemetryConfig(Optional.of(dir.resolve("out/telemetry.csv")),
+                "telemetry.file (line 90)", false, TelemetryConfig.DEFAULT_DRAIN_TIMEOUT));
     }
 
     @Test

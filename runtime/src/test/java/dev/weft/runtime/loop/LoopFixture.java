@@ -10,6 +10,7 @@ import dev.weft.runtime.source.ObservationSource;
 import dev.weft.runtime.source.SimulatedPlant;
 import dev.weft.runtime.source.SimulatedSource;
 import dev.weft.runtime.telemetry.CsvRecorder;
+import dev.weft.runtime.telemetry.TargetFile;
 import dev.weft.runtime.telemetry.TelemetryFormat;
 import dev.weft.runtime.telemetry.TelemetryRow;
 import dev.weft.safety.JointLimits;
@@ -95,8 +96,13 @@ final class LoopFixture {
             worker = w;
         }
         if (telemetryFile != null) {
-            telemetry = CsvRecorder.open(telemetryFile, 1 << 12, () -> new TelemetryRow(joints),
-                    new TelemetryFormat(names()), "test-telemetry");
+            // a special file (/dev/full, a FIFO) is written straight into; a regular one as a run does
+            telemetry = java.nio.file.Files.exists(telemetryFile) && !java.nio.file.Files.isRegularFile(telemetryFile)
+                    ? CsvRecorder.openStraightForTests(telemetryFile, 1 << 12, CsvRecorder.DEFAULT_DRAIN_TIMEOUT_NANOS,
+                            () -> new TelemetryRow(joints), new TelemetryFormat(names()), "test-telemetry")
+                    : CsvRecorder.open(TargetFile.resolve(telemetryFile, true), 1 << 12,
+                            CsvRecorder.DEFAULT_DRAIN_TIMEOUT_NANOS, () -> new TelemetryRow(joints),
+                            new TelemetryFormat(names()), "test-telemetry");
         }
         port.open(joints);
         JointLimits limits = limits();

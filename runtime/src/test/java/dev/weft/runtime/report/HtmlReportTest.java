@@ -259,7 +259,8 @@ class HtmlReportTest {
         DryRunSummary s = e.summary();
         List<DryRunSummary.Stop> stops = List.of(new DryRunSummary.Stop(900, 1.8, 1, "operator <stop> & \u0007bell"));
         DryRunSummary odd = new DryRunSummary(s.name(), "C:\\runs\\<odd>&.h5", s.joints(), s.closedLoop(), s.realtime(),
-                s.controlPeriod(), s.latencyTicks(), s.ticks(), s.commands(), s.telemetryRows(), s.boundViolations(),
+                s.controlPeriod(), s.latencyTicks(), s.ticks(), s.commands(), s.telemetryRows(),
+                s.telemetryHanded(), s.telemetryLost(), s.boundViolations(),
                 s.rmsError(), s.maxError(), s.limitActive(), s.staleDropped(), s.starvedTicks(), s.watchdogEvents(),
                 stops, s.inferenceMs(), s.periodErrorMs(), s.passed(),
                 List.of(new DryRunSummary.Gate("error < 0.05 & stops", 0.05, 0.01, true)));
