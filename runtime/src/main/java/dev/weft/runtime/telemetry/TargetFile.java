@@ -98,12 +98,12 @@ public final class TargetFile {
                         + " rows are written to a regular file only");
             }
             if (!replace) {
-                throw new Refused(Reason.EXISTS, shown + " exists and would be replaced");
+                throw new Refused(Reason.EXISTS, shown + " exists");
             }
             folder = file.getParent();
         }
         if (!Files.isWritable(folder)) {
-            throw new Refused(Reason.FOLDER_NOT_WRITABLE, "folder " + folder + " is not writable");
+            throw new Refused(Reason.FOLDER_NOT_WRITABLE, file + ": its folder " + folder + " is not writable");
         }
         TargetFile t = new TargetFile(configured, file, replace);
         if (Files.exists(t.partial, LinkOption.NOFOLLOW_LINKS)) {
@@ -124,8 +124,8 @@ public final class TargetFile {
         try {
             Files.delete(Files.createFile(partial));
         } catch (IOException e) {
-            throw new Refused(Reason.FOLDER_NOT_WRITABLE, "cannot create files in " + file.getParent() + " ("
-                    + why(e) + ")");
+            throw new Refused(Reason.FOLDER_NOT_WRITABLE, file + ": cannot create files in its folder "
+                    + file.getParent() + " (" + why(e) + ")");
         }
     }
 

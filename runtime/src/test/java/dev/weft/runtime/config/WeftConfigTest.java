@@ -561,6 +561,28 @@ class WeftConfigTest {
     }
 
     @Test
+    void telemetryTakesOverwriteAndADrainTimeoutAndRefusesWhatNoRunCouldWrite() throws Exception {
+        TelemetryConfig t = parse(VALID + "telemetry: {file: t.csv, overwrite: true, drain_timeout: 0.5}\n").telemetry();
+        assertThat(t).isEqualTo(new TelemetryConfig(Optional.of(dir.resolve("t.csv")), "telemetry.file (line 35)", true,
+                0.5));
+        assertThat(parse(VALID + "telemetry: {file: t.csv}\n").telemetry().overwrite()).isFalse();
+        assertThat(problems(VALID + "telemetry: {file: t.csv, drain_timeout: 0}\n"))
+                .containsExactly("telemetry.drain_timeout (line 35): must be > 0, got 0");
+        assertThat(problems(VALID + "telemetry: {file: t.csv, overwrite: maybe}\n"))
+                .containsExactly("telemetry.overwrite (line 35): must be true or false, got \"maybe\"");
+        // an existing file is left to the run's own check, since --overwrite may allow it
+        Files.writeString(dir.resolve("old.csv"), "kept\n");
+        assertThat(parse(VALID + "telemetry: {file: old.csv}\n").telemetry().file()).contains(dir.resolve("old.csv"));
+        assertThat(Files.readString(dir.resolve("old.csv"))).isEqualTo("kept\n");
+        // a link to nothing and a special file are refused here, with the line
+        Files.createSymbolicLink(dir.resolve("gone.csv"), dir.resolve("nothing.csv"));
+        assertThat(problems(VALID + "telemetry: {file: gone.csv}\n")).singleElement().asString()
+                .startsWith("telemetry.file (line 35): ").contains("gone.csv is a symbolic link to a file that does not exist");
+        assertThat(problems(VALID + "telemetry: {file: /dev/null}\n")).singleElement().asString()
+                .startsWith("telemetry.file (line 35): ").contains("/dev/null is not a regular file");
+    }
+
+    @Test
     void keysThatAreNotPlainWordsAreQuotedInPaths() {
         assertThat(problems(replace(VALID, "    obs: {source: observation}", "    \"obs.0\": {source: histroy}")))
                 .containsExactly("policy.inputs[\"obs.0\"].source (line 21): must be one of observation, history, "
