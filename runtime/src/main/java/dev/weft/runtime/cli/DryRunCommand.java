@@ -10,6 +10,7 @@ import dev.weft.runtime.recording.Recording;
 import dev.weft.runtime.recording.RecordingSpec;
 import dev.weft.runtime.recording.Recordings;
 import dev.weft.runtime.report.HtmlReport;
+import dev.weft.runtime.telemetry.TargetFile;
 import java.io.IOException;
 import java.io.PrintWriter;
 import java.nio.file.Path;
@@ -80,6 +81,12 @@ final class DryRunCommand implements Callable<Integer> {
                 }
             }
             Recording rec = Recordings.read(recording, rs.get());
+            try {
+                java.nio.file.Files.createDirectories(report);
+            } catch (IOException e) {
+                throw new BadInputException("--report", report + ": the folder cannot be created ("
+                        + (e instanceof java.nio.file.AccessDeniedException ? "permission denied" : e.getMessage()) + ")");
+            }
             out.println(DryRun.portNote(run));
             out.flush();
             String name = recording.getFileName().toString();
@@ -93,6 +100,10 @@ final class DryRunCommand implements Callable<Integer> {
             return r.summary().passed() ? 0 : WeftCommand.VERDICT_FAILED;
         } catch (BadInputException e) {
             err.println("weft dry-run: " + e.getMessage());
+            err.flush();
+            return WeftCommand.COULD_NOT_RUN;
+        } catch (TargetFile.Refused e) {
+            err.println("weft dry-run: --report: " + e.getMessage());
             err.flush();
             return WeftCommand.COULD_NOT_RUN;
         } catch (IOException | RuntimeException e) {

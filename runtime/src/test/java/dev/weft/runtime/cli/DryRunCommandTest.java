@@ -80,13 +80,50 @@ class DryRunCommandTest {
         assertThat(s.get("ticks").asLong()).isEqualTo(400);
         assertThat(s.get("commands").asLong()).isEqualTo(400);
         assertThat(s.get("telemetry_rows").asLong()).isEqualTo(400);
+        assertThat(s.get("telemetry_rows_handed").asLong()).isEqualTo(400);
+        assertThat(s.get("telemetry_rows_lost").asLong()).isZero();
+        assertThat(Files.readAllLines(out.resolve("telemetry.csv"))).hasSize(401);
+        assertThat(out.resolve("telemetry.csv.incomplete")).doesNotExist();
         assertThat(s.get("latency_ticks").asLong()).isEqualTo(2);
         assertThat(s.get("verdict").asText()).isEqualTo("pass");
         assertThat(s.get("limit_active").has("jerk")).isTrue();
         assertThat(s.get("gates").findValuesAsText("name")).contains("bound_violations", "armed", "rms_error.x");
         String html = Files.readString(out.resolve("report.html"));
         assertThat(html).contains("PASS");
+        assertThat(html).contains("<th scope=\"row\">telemetry rows handed to the recorder</th><td class=\"field\">"
+                + "telemetryHanded</td><td>400</td>");
+        assertThat(html).contains("<td class=\"field\">telemetryLost</td><td>0</td>");
+        // a second run into the same folder replaces the dry run's own files
+        InspectCommandTest.Run again = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                "--report", out.toString(), "--latency-ticks", "2");
+        assertThat(again.exit()).as(again.out() + again.err()).isZero();
+        assertThat(Files.readAllLines(out.resolve("telemetry.csv"))).hasSize(401);
         assertThat(html.indexOf("not a safety-rated")).isLessThan(html.indexOf("<svg"));
+    }
+
+    @Test
+    void aReportFolderThatTakesNoFilesIsRefusedInOneLine() throws Exception {
+        Path cfg = config("{kind: discard}");
+        Path rec = recording(100);
+        Path ro = Files.createDirectories(dir.resolve("ro"));
+        Files.setPosixFilePermissions(ro, java.nio.file.attribute.PosixFilePermissions.fromString("r-xr-xr-x"));
+        try {
+            Path out = ro;
+            if (TelemetryCommandTest.creates(ro)) {
+                // root ignores permission bits; sysfs refuses new files and folders even to root
+                out = Path.of("/sys/weft-report");
+                org.junit.jupiter.api.Assumptions.assumeTrue(!TelemetryCommandTest.creates(Path.of("/sys")),
+                        "permissions are not enforced here (root) and no folder refuses root");
+            }
+            InspectCommandTest.Run r = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                    "--report", out.toString(), "--latency-ticks", "2");
+            assertThat(r.exit()).as(r.out() + r.err()).isEqualTo(2);
+            assertThat(r.err().strip().lines()).as(r.err()).hasSize(1);
+            assertThat(r.err()).startsWith("weft dry-run: --report: ").contains(out.toString());
+            assertThat(r.out() + r.err()).doesNotContain("\tat ").doesNotContain("Exception");
+        } finally {
+            Files.setPosixFilePermissions(ro, java.nio.file.attribute.PosixFilePermissions.fromString("rwxr-xr-x"));
+        }
     }
 
     @Test

@@ -102,7 +102,7 @@ class TelemetryCommandTest {
     }
 
     /** A probe write: true when a file can be created in {@code folder}. */
-    private static boolean creates(Path folder) {
+    static boolean creates(Path folder) {
         try {
             Files.delete(Files.createFile(folder.resolve("weft-probe-" + ProcessHandle.current().pid())));
             return true;
