@@ -2,7 +2,6 @@ package dev.weft.runtime.port;
 
 import dev.weft.runtime.BadInputException;
 import dev.weft.runtime.telemetry.CsvRecorder;
-import dev.weft.runtime.telemetry.TargetFile;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.file.Path;
@@ -31,8 +30,7 @@ public final class CsvPort implements CommandPort {
     private long emitted;
 
     /**
-     * @param file the file to write: written as {@code <file>.incomplete} and moved onto {@code file}
-     *     (replacing it) when the port closes
+     * @param file the file to write (truncated at open)
      * @param jointNames column names; empty for {@code j0, j1, …}
      */
     public CsvPort(Path file, List<String> jointNames, int ringSize) {
@@ -62,7 +60,7 @@ public final class CsvPort implements CommandPort {
         if (names.size() != joints) {
             throw new IOException("csv port: " + names.size() + " joint names for " + joints + " joints");
         }
-        recorder = CsvRecorder.open(TargetFile.resolve(file, true), ringSize, CsvRecorder.DEFAULT_DRAIN_TIMEOUT_NANOS,
+        recorder = CsvRecorder.openTruncating(file, ringSize, CsvRecorder.DEFAULT_DRAIN_TIMEOUT_NANOS,
                 () -> new CommandFrame(joints), new Format(names), "weft-csv-port");
     }
 

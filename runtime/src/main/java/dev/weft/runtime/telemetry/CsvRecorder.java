@@ -36,6 +36,7 @@ import java.util.concurrent.locks.LockSupport;
  * it closes, so a reader never sees a half file under the final name. A write that fails part-way
  * leaves the file cut back to its last whole line (where the file system lets it be cut), and the
  * file keeps its {@code .incomplete} name: only a file written to the end gets the final name.
+ * ({@link #openTruncating} writes straight into its file instead, for the csv command port.)
  *
  * <p><b>Never hangs.</b> The file is opened on the recorder thread; the constructor waits at most
  * the drain timeout for it (a FIFO with no reader blocks its opener). {@link #close()} waits at
@@ -74,6 +75,7 @@ public final class CsvRecorder<E> implements AutoCloseable {
     private final TargetFile target;
     private final Path file;
     private final Path writing;
+    private final boolean truncate;
     private final long drainNanos;
     private final Thread thread;
     private final CountDownLatch opened = new CountDownLatch(1);
@@ -103,8 +105,8 @@ public final class CsvRecorder<E> implements AutoCloseable {
     private volatile RowCounts closedCounts;
     private boolean closed;
 
-    private CsvRecorder(TargetFile target, Path straight, int ringSize, long drainNanos, EventFactory<E> factory,
-                        Format<E> format, String threadName) throws IOException {
+    private CsvRecorder(TargetFile target, Path straight, boolean truncate, int ringSize, long drainNanos,
+                        EventFactory<E> factory, Format<E> format, String threadName) throws IOException {
         if (Integer.bitCount(ringSize) != 1) {
             throw new IllegalArgumentException("ring size must be a power of two, got " + ringSize);
         }
@@ -114,6 +116,7 @@ public final class CsvRecorder<E> implements AutoCloseable {
         this.target = target;
         this.file = target != null ? target.file() : straight;
         this.writing = target != null ? target.partial() : straight;
+        this.truncate = truncate;
         this.drainNanos = drainNanos;
         this.format = format;
         this.ring = RingBuffer.createSingleProducer(factory, ringSize);
@@ -150,7 +153,23 @@ public final class CsvRecorder<E> implements AutoCloseable {
     public static <E> CsvRecorder<E> open(TargetFile target, int ringSize, long drainTimeoutNanos,
                                           EventFactory<E> factory, Format<E> format, String threadName)
             throws IOException {
-        return new CsvRecorder<>(target, null, ringSize, drainTimeoutNanos, factory, format, threadName);
+        return new CsvRecorder<>(target, null, false, ringSize, drainTimeoutNanos, factory, format, threadName);
+    }
+
+    /**
+     * Starts a recorder writing straight into {@code file}, created or emptied when it opens, with
+     * no partial file and no move: the csv command port's documented behaviour. Refuses a path
+     * that exists and is not a regular file; every count holds as with {@link #open}.
+     *
+     * @throws IOException when the file cannot be opened (the message names it and why)
+     */
+    public static <E> CsvRecorder<E> openTruncating(Path file, int ringSize, long drainTimeoutNanos,
+                                                    EventFactory<E> factory, Format<E> format, String threadName)
+            throws IOException {
+        if (Files.exists(file) && !Files.isRegularFile(file)) {
+            throw new IOException(file + " is not a regular file");
+        }
+        return new CsvRecorder<>(null, file, true, ringSize, drainTimeoutNanos, factory, format, threadName);
     }
 
     /**
@@ -161,7 +180,7 @@ public final class CsvRecorder<E> implements AutoCloseable {
     public static <E> CsvRecorder<E> openStraightForTests(Path file, int ringSize, long drainTimeoutNanos,
                                                           EventFactory<E> factory, Format<E> format,
                                                           String threadName) throws IOException {
-        return new CsvRecorder<>(null, file, ringSize, drainTimeoutNanos, factory, format, threadName);
+        return new CsvRecorder<>(null, file, false, ringSize, drainTimeoutNanos, factory, format, threadName);
     }
 
     /**
@@ -273,6 +292,8 @@ public final class CsvRecorder<E> implements AutoCloseable {
         try {
             channel = target != null
                     ? FileChannel.open(writing, StandardOpenOption.CREATE_NEW, StandardOpenOption.WRITE)
+                    : truncate ? FileChannel.open(writing, StandardOpenOption.CREATE, StandardOpenOption.WRITE,
+                            StandardOpenOption.TRUNCATE_EXISTING)
                     : FileChannel.open(writing, StandardOpenOption.WRITE);
         } catch (IOException | RuntimeException e) {
             openFailure = new IOException("could not create " + writing + ": " + TargetFile.why(e), e);
