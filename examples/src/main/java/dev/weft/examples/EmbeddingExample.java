@@ -167,8 +167,14 @@ public final class EmbeddingExample {
             System.out.println("arm: " + (armed == 0 ? "soft start" : Weft.describe(armed)));
             Thread.sleep((long) (seconds * 1000));
             weft.disarm();
-            while (weft.state() != dev.weft.safety.SupervisorState.DISARMED && weft.running()) {
+            // a fault on the way (a stall, overruns) ends in FAULTED, not DISARMED: stop waiting then too
+            while (weft.state() != dev.weft.safety.SupervisorState.DISARMED
+                    && weft.state() != dev.weft.safety.SupervisorState.FAULTED && weft.running()) {
                 Thread.sleep(5);
+            }
+            int cause = weft.loop().supervisor().latchedCause();
+            if (cause != 0) {
+                System.out.println("stopped by: " + Weft.describe(cause));
             }
             // end the run before reading its counters: the loop keeps ticking (holding) until then, so a
             // tick count read while it runs can be one ahead of the frames the driver has had

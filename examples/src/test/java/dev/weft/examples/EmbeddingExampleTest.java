@@ -12,7 +12,7 @@ class EmbeddingExampleTest {
     @Timeout(60)
     void theHeadIsArmedLooksAtThePointAndStopsDisarmed() throws Exception {
         EmbeddingExample.Outcome o = EmbeddingExample.run(4.0);
-        assertThat(o.state()).isEqualTo("disarmed");
+        assertThat(o.state()).as("see the printed cause when it is faulted").isEqualTo("disarmed");
         assertThat(o.framesToDriver()).isEqualTo(o.ticks());
         // the soft start runs at a quarter of the limits, then the plan sweeps the head to the point
         assertThat(o.finalPose()[0]).isCloseTo(0.6, within(0.02));
