@@ -74,6 +74,8 @@ public final class Weft implements AutoCloseable {
     private boolean started;
     private boolean closed;
 
+    private final LoopClock builderClock;
+
     private Weft(Builder b, ControlLoop loop, ObservationSource source, EmbeddedSource embedded, Inference inference,
                  CsvRecorder<TelemetryRow> telemetry, EventRelay relay) {
         this.loop = loop;
@@ -85,6 +87,7 @@ public final class Weft implements AutoCloseable {
         this.relay = relay;
         this.policy = b.policy;
         this.closePolicy = b.closePolicy;
+        this.builderClock = b.clock;
     }
 
     /**
@@ -99,7 +102,8 @@ public final class Weft implements AutoCloseable {
 
     /**
      * Opens the port, starts the source and the inference worker, waits for the first observation
-     * and starts the loop, disarmed.
+     * and starts the loop, disarmed. On the wall clock it first asks for a full collection, so
+     * that the set-up's garbage is not collected while the loop runs.
      *
      * @throws IOException when the port or source cannot be opened; nothing is left running, and
      *     no telemetry file is left behind
@@ -115,6 +119,11 @@ public final class Weft implements AutoCloseable {
             source.start();
             if (inference instanceof InferenceWorker w) {
                 w.start();
+            }
+            if (!(builderClock instanceof ManualClock)) {
+                // collect the set-up's garbage (model loading, class loading: tens of MB) now, not
+                // in a young collection that would stop the first seconds of the loop for ~10 ms
+                System.gc();
             }
             loop.start("weft-loop");
         } catch (IOException | RuntimeException e) {

@@ -47,6 +47,11 @@ final class RunCommand implements Callable<Integer> {
     @Option(names = "--arm", description = "arm once a plan is there: the robot follows the policy")
     boolean arm;
 
+    @Option(names = "--warmup", paramLabel = "SECONDS", defaultValue = "2",
+            description = "with --arm: hold disarmed this long first, so the JIT compiles the tick before"
+                    + " the robot moves (default 2)")
+    double warmup;
+
     @Option(names = "--duration", paramLabel = "SECONDS", defaultValue = "0",
             description = "stop after this long (default: run until Ctrl-C)")
     double duration;
@@ -68,6 +73,11 @@ final class RunCommand implements Callable<Integer> {
         PrintWriter err = spec.commandLine().getErr();
         Caution.print(out);
         out.flush();
+        if (!(warmup >= 0 && warmup <= 3600)) {
+            err.println("weft run: --warmup: must be from 0 to 3600 s, got " + warmup);
+            err.flush();
+            return WeftCommand.COULD_NOT_RUN;
+        }
         Weft weft;
         try {
             WeftConfig c = WeftConfig.load(config);
@@ -127,6 +137,11 @@ final class RunCommand implements Callable<Integer> {
             if (!arm) {
                 out.println("not armed: hold commands only; pass --arm to follow the policy");
             } else {
+                if (warmup > 0) {
+                    out.printf(Locale.ROOT, "warming up: holding disarmed for %s before arming%n", Units.seconds(warmup));
+                    out.flush();
+                    Thread.sleep((long) (warmup * 1000));
+                }
                 int result = armWhenPlanned(weft);
                 if (result != 0) {
                     out.println("arming refused: " + Weft.describe(result));

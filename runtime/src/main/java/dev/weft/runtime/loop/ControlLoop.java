@@ -342,7 +342,8 @@ public final class ControlLoop implements AutoCloseable {
      * The loop monitor (wall-clock runs only): raises the loop-stalled alarm when a tick has been
      * at work for more than {@link LoopSettings#stallPeriods()} periods without completing (a port,
      * a source or a callback blocking), or when no tick has begun for that bound plus
-     * {@link #IDLE_STALL_MARGIN_NANOS} (a loop thread that does not wake at all); clears the
+     * {@link #IDLE_STALL_MARGIN_NANOS} (a loop thread that does not wake at all; the first tick,
+     * which runs cold, gets this bound too); clears the
      * alarm's state once ticks complete again (the supervisor has latched the fault by then). A
      * loop that is merely woken late between ticks is not stalled: that is an overrun, counted
      * and bounded by the watchdog's overrun condition.
@@ -366,13 +367,14 @@ public final class ControlLoop implements AutoCloseable {
                 last = progressNanos.get();
                 boolean inTick = began > last;
                 long gap = inTick ? now - began : now - last;
-                long limit = inTick ? bound : bound + IDLE_STALL_MARGIN_NANOS;
+                // the first tick runs cold (class loading, the interpreter): it gets the long bound
+                long limit = inTick && ticks.get() > 0 ? bound : bound + IDLE_STALL_MARGIN_NANOS;
                 if (gap > limit && running) {
                     raiseStall(tick, (inTick ? "tick " + tick + " has been at work for " : "no tick has begun for ")
                             + String.format(java.util.Locale.ROOT, "%.1f", gap / 1e6) + " ms (bound "
                             + settings.stallPeriods() + " periods = "
                             + String.format(java.util.Locale.ROOT, "%.1f", bound / 1e6) + " ms"
-                            + (inTick ? "" : " + " + IDLE_STALL_MARGIN_NANOS / 1_000_000 + " ms")
+                            + (limit == bound ? "" : " + " + IDLE_STALL_MARGIN_NANOS / 1_000_000 + " ms")
                             + "); the loop thread is at " + topFrame());
                 }
             }

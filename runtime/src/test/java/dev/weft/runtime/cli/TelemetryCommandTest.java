@@ -190,7 +190,7 @@ class TelemetryCommandTest {
         String javaBin = Path.of(System.getProperty("java.home"), "bin", "java").toString();
         String cmd = "ulimit -f 100 && exec '" + javaBin + "' -Donnxruntime.native.path='" + lib + "' -cp '"
                 + System.getProperty("java.class.path") + "' " + WeftCommand.class.getName() + " run '" + cfg
-                + "' --arm --duration 6";
+                + "' --arm --warmup 0 --duration 6";
         Process p = new ProcessBuilder("bash", "-c", cmd).redirectErrorStream(true).start();
         String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
         assertThat(p.waitFor(60, TimeUnit.SECONDS)).isTrue();
