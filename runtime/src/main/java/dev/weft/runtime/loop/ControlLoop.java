@@ -615,11 +615,7 @@ public final class ControlLoop implements AutoCloseable {
             // that keeps failing ends the loop with the loop-stalled alarm
             s = supervisor.state();
             supervised = false;
-            tickFaults.lazySet(tickFaults.get() + 1);
-            if (begins(WatchdogCondition.TICK_EXCEPTION)) {
-                detail(WatchdogCondition.TICK_EXCEPTION, "supervisor: " + t);
-            }
-            reportedNext |= WatchdogCondition.TICK_EXCEPTION.bit();
+            postFault(WatchdogCondition.TICK_EXCEPTION, "supervisor", t);
             if (++consecutiveSupervisorFaults > settings.stallPeriods()) {
                 throw new IllegalStateException("the supervisor failed " + consecutiveSupervisorFaults
                         + " ticks in a row, the last at tick " + n + ": " + t, t);
@@ -744,21 +740,23 @@ public final class ControlLoop implements AutoCloseable {
     }
 
     /** A fault seen before this tick's watchdog check: it shapes this tick's command. */
+    /** A step that threw before the tick's command went out: reported at this tick. */
     private void fault(WatchdogCondition c, String step, Throwable t) {
-        tickFaults.lazySet(tickFaults.get() + 1);
-        if (begins(c)) {
-            detail(c, step + ": " + t);
-        }
-        reportedNow |= c.bit();
+        reportedNow |= caught(c, step, t);
     }
 
-    /** A fault seen after this tick's command was computed: the next tick's watchdog reports it. */
+    /** A step that threw once the command had gone out (emit, telemetry): reported at the next tick. */
     private void postFault(WatchdogCondition c, String step, Throwable t) {
+        reportedNext |= caught(c, step, t);
+    }
+
+    /** Counts a caught exception and keeps it as the cause's detail when the cause begins; its bit. */
+    private int caught(WatchdogCondition c, String step, Throwable t) {
         tickFaults.lazySet(tickFaults.get() + 1);
         if (begins(c)) {
             detail(c, step + ": " + t);
         }
-        reportedNext |= c.bit();
+        return c.bit();
     }
 
     private static long clamp(long v) {
