@@ -1,11 +1,11 @@
 package dev.weft.examples;
 
 import dev.weft.runtime.Weft;
-import dev.weft.runtime.loop.ControlLoop;
 import dev.weft.runtime.policy.Policy;
 import dev.weft.runtime.port.CommandFrame;
 import dev.weft.runtime.port.CommandPort;
 import dev.weft.safety.JointLimits;
+import dev.weft.safety.Watchdog;
 import java.util.Locale;
 import java.util.concurrent.atomic.AtomicBoolean;
 
@@ -14,7 +14,7 @@ import java.util.concurrent.atomic.AtomicBoolean;
  *
  * <p>The invented scene: a two-axis camera head ("pan" and "tilt") on a bench, whose driver
  * thread reports joint angles every 2 ms and takes one position command per tick. The policy plans
- * chunks of 20 steps that sweep the head toward a point of interest. Run it with
+ * chunks of 40 steps that sweep the head toward a point of interest. Run it with
  *
  * <pre>mvn -q -pl examples -am install -DskipTests
  * mvn -q -pl examples exec:java -Dexec.mainClass=dev.weft.examples.EmbeddingExample</pre>
@@ -88,8 +88,11 @@ public final class EmbeddingExample {
         }
     }
 
-    /** Plans 20 steps from the observed pose toward a point of interest, at most 0.01 rad a step. */
+    /** Plans 40 steps from the observed pose toward a point of interest, at most 0.01 rad a step. */
     static final class LookAt implements Policy {
+        // 80 ms of plan per chunk: the inference thread may be held off the CPU for tens of
+        // milliseconds on a shared machine before the plan runs out (plan starvation)
+        private static final int STEPS = 40;
         private final double[] goal;
 
         LookAt(double[] goal) {
@@ -103,7 +106,7 @@ public final class EmbeddingExample {
 
         @Override
         public int chunkLength() {
-            return 20;
+            return STEPS;
         }
 
         @Override
@@ -113,7 +116,7 @@ public final class EmbeddingExample {
 
         @Override
         public void infer(double[] observation, long tick, double[] chunk) {
-            for (int j = 0; j < 20; j++) {
+            for (int j = 0; j < STEPS; j++) {
                 for (int i = 0; i < 2; i++) {
                     double step = Math.max(-0.01 * (j + 1), Math.min(0.01 * (j + 1), goal[i] - observation[i]));
                     chunk[j * 2 + i] = observation[i] + step;
@@ -137,13 +140,17 @@ public final class EmbeddingExample {
         try (Weft weft = Weft.builder(limits, 0.002)
                 .policy(new LookAt(new double[] {0.6, 0.3}))
                 .port(driver)
-                // a chunk sweeps 0.01 rad a step for 20 steps while the head holds, so when arm() is
-                // called the plan can be up to 0.2 rad from the held pose (more than 0.05 whenever the
-                // inference thread was late by a few ticks); the soft start closes that gap
+                // a chunk sweeps 0.01 rad a step while the head holds, so when arm() is called the
+                // plan lies 0.01 rad further from the held pose for every tick its chunk came late
+                // (more than the default 0.05 whenever the inference thread was late by a few ticks);
+                // the soft start closes that gap
                 .armingOffset(0.25)
                 // this example runs on desktops and shared CI machines, which can hold a thread off
                 // the CPU for several 2 ms periods; on a tuned robot computer keep the default of 3
                 .stallPeriods(25)
+                // for the same reason, allow as many overrun ticks in a row before the overrun fault
+                // (default 3)
+                .watchdog(Watchdog.builder().maxConsecutiveOverruns(25).build())
                 .listener((tick, time, from, to, cause, message) ->
                         System.out.printf(Locale.ROOT, "tick %d: %s -> %s (%s)%n", tick, from, to, message))
                 .build()) {
@@ -163,7 +170,9 @@ public final class EmbeddingExample {
             do {
                 armed = weft.arm();
                 Thread.sleep(5);
-            } while (armed == ControlLoop.ARM_REFUSED_NO_PLAN && System.nanoTime() < until);
+                // refused while there is no plan yet, or (on a busy machine) while the plan is
+                // further than the offset above: ask again until it holds, for up to 2 s
+            } while (armed != 0 && System.nanoTime() < until);
             System.out.println("arm: " + (armed == 0 ? "soft start" : Weft.describe(armed)));
             Thread.sleep((long) (seconds * 1000));
             weft.disarm();
