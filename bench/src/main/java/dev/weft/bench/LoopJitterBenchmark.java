@@ -87,7 +87,7 @@ public class LoopJitterBenchmark {
 
     private OnnxPolicy policy;
     private InferenceWorker worker;
-    private double[] observation;
+    private dev.weft.runtime.policy.PolicyInput observation;
     private long chunksSeen;
     private final ChunkSink sink = (chunk, steps, originTick, latencyNanos, status) -> chunksSeen++;
 
@@ -99,7 +99,7 @@ public class LoopJitterBenchmark {
             BenchModels.Model m = BenchModels.resolve(loadModel);
             policy = OnnxPolicy.load(PolicySpec.singleInput(m.file(), m.observationSize(), m.input(),
                     new OutputSpec(null, m.layout(), 0, 0)));
-            observation = new double[m.observationSize()];
+            observation = dev.weft.runtime.policy.PolicyInput.forPolicy(policy);
             worker = new InferenceWorker(policy, clock, 64, "bench-inference");
             worker.start();
         } else if (!load.equals("idle")) {
@@ -181,6 +181,7 @@ public class LoopJitterBenchmark {
         }
         if (worker != null) {
             if (worker.idle()) {
+                observation.stamp(n, 0);
                 worker.request(observation, n);
             }
             worker.drain(n, sink);

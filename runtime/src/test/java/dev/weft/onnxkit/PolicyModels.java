@@ -168,6 +168,22 @@ public final class PolicyModels {
         return new Built(g.toBytes(), mlp);
     }
 
+    /**
+     * As {@link #stateAndHistoryPolicy} in float64 throughout: {@code state [1, S]} and
+     * {@code history [1, N, S]} (oldest first) → {@code actions [1, K, D]}.
+     */
+    public static Built stateAndHistoryPolicy64(int state, int depth, int hidden, int k, int d, long seed) {
+        Mlp mlp = Mlp.random(state * (depth + 1), hidden, k * d, seed);
+        OnnxGraph g = OnnxGraph.named("state_history_mlp_f64");
+        String s = g.input("state", Element.DOUBLE, 1, state);
+        String h = g.input("history", Element.DOUBLE, 1, depth, state);
+        String flat = g.reshape(h, 1, (long) depth * state);
+        String x = g.concat(1, s, flat);
+        g.reshapeNamed("actions", mlp.addTo(g, x, "", Element.DOUBLE), 1, k, d);
+        g.output("actions", Element.DOUBLE, 1, k, d);
+        return new Built(g.toBytes(), mlp);
+    }
+
     /** The chunk policy in float64 throughout. */
     public static Built float64ChunkPolicy(int obs, int hidden, int k, int d, long seed) {
         Mlp mlp = Mlp.random(obs, hidden, k * d, seed);

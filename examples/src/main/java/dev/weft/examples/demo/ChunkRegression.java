@@ -13,11 +13,10 @@ import org.ejml.interfaces.linsol.LinearSolverDense;
  * <h2>Input and output</h2>
  * The observation is the measured positions and velocities of the six joints (12 values). The
  * policy sees it through weft's {@code history} input of depth {@link #HISTORY_DEPTH}: the
- * observations of the last three inference calls, oldest first, the newest being the current
- * one. The demo queries the policy every {@link #QUERY_SAMPLES} samples (0.05 s), so training
- * row {@code i} takes the observations of samples {@code i - 10}, {@code i - 5} and {@code i}
- * (an index before the first sample takes the first sample, as weft fills the history before it
- * is full). Its features are those 36 values and a constant 1. The targets are the expert's
+ * observation stream on a grid {@link #HISTORY_SPACING} (0.05 s, {@link #QUERY_SAMPLES} samples)
+ * apart, oldest first, the newest being the current one; so training row {@code i} takes the
+ * observations of samples {@code i - 10}, {@code i - 5} and {@code i} (an index before the first
+ * sample takes the first sample, as weft does for a grid point before the first sample it kept). Its features are those 36 values and a constant 1. The targets are the expert's
  * commands at {@code t0 + j·Δp}, {@code j = 0 … K-1}, with {@code Δp = }{@link #POLICY_STEP}
  * ({@link #STEP_SAMPLES} samples): absolute joint positions, flattened action-major exactly as a
  * {@code 1xKxD} chunk is laid out. Rows whose last target lies beyond the episode are left out.
@@ -44,6 +43,8 @@ public final class ChunkRegression {
     public static final int HISTORY_DEPTH = 3;
     /** Samples between two inference calls: 5 × 0.01 s = 0.05 s = 25 control ticks. */
     public static final int QUERY_SAMPLES = 5;
+    /** Seconds between two observations of the history: {@link #QUERY_SAMPLES} samples. */
+    public static final double HISTORY_SPACING = QUERY_SAMPLES * DipCell.SAMPLE_PERIOD;
     /** Actions per chunk. */
     public static final int K = 12;
     /** Samples between two actions of a chunk. */

@@ -80,12 +80,12 @@ public final class DemoConfig {
                   policy_step: %s  # the chunk's actions are %s s apart
                   query:
                     schedule: fixed
-                    every_ticks: %d  # one inference call every %s s: the history's spacing in training
+                    every_ticks: %d  # one inference call every %s s
                 policy:
                   model: %s
                   observation_size: %d  # q of the six joints, then dq
                   inputs:
-                    %s: {source: history, depth: %d}  # the last %d observations, oldest first, the current one last
+                    %s: {source: history, depth: %d, spacing: %s, with_current: true}  # %d observations %s s apart (as in training), oldest first, the current one last
                   output:
                     name: %s
                     layout: 1xKxD
@@ -119,7 +119,8 @@ public final class DemoConfig {
                   starved_ticks_max: 0
                 """.formatted(num(DipCell.CONTROL_PERIOD), num(ChunkRegression.POLICY_STEP),
                 num(ChunkRegression.POLICY_STEP), EVERY_TICKS, num(EVERY_TICKS * DipCell.CONTROL_PERIOD), model, ChunkRegression.OBSERVATION,
-                PolicyExport.INPUT, ChunkRegression.HISTORY_DEPTH, ChunkRegression.HISTORY_DEPTH, PolicyExport.OUTPUT,
+                PolicyExport.INPUT, ChunkRegression.HISTORY_DEPTH, num(ChunkRegression.HISTORY_SPACING),
+                ChunkRegression.HISTORY_DEPTH, num(ChunkRegression.HISTORY_SPACING), PolicyExport.OUTPUT,
                 ChunkRegression.K, ChunkRegression.K, num(ChunkRegression.POLICY_STEP),
                 num(ChunkRegression.K * ChunkRegression.POLICY_STEP), DipCell.D, INTERPOLATION,
                 num(POSE_DISTANCE_MAX), num(RAMP_TIME),

@@ -68,7 +68,8 @@ class BuildDemoTest {
         assertThat(c.timing().policyStep()).isCloseTo(ChunkRegression.POLICY_STEP, within(1e-15));
         assertThat(c.policy().observationSize()).isEqualTo(ChunkRegression.OBSERVATION);
         assertThat(c.policy().inputs()).containsEntry(PolicyExport.INPUT,
-                new InputBinding.History(ChunkRegression.HISTORY_DEPTH));
+                new InputBinding.History(ChunkRegression.HISTORY_DEPTH, Math.round(ChunkRegression.HISTORY_SPACING * 1e9),
+                        true, false));
         // the values the demo's tests and the dry run rely on, as DemoConfig states them
         assertThat(c.arming().poseDistanceMax()).isEqualTo(DemoConfig.POSE_DISTANCE_MAX);
         assertThat(c.arming().rampTime()).isEqualTo(DemoConfig.RAMP_TIME);

@@ -7,6 +7,7 @@ import dev.weft.runtime.policy.ChunkLayout;
 import dev.weft.runtime.policy.InputBinding;
 import dev.weft.runtime.policy.OnnxPolicy;
 import dev.weft.runtime.policy.OutputSpec;
+import dev.weft.runtime.policy.PolicyInput;
 import dev.weft.runtime.policy.PolicySpec;
 import dev.weft.runtime.policy.SessionSettings;
 import java.nio.file.Files;
@@ -39,7 +40,8 @@ class PolicyDemoTest {
         fit = ChunkRegression.fit(training, ChunkRegression.LAMBDA);
         Path model = Path.of("..").resolve(BuildDemo.DEMO).resolve(BuildDemo.MODEL);
         PolicySpec spec = new PolicySpec(model, ChunkRegression.OBSERVATION,
-                Map.of(PolicyExport.INPUT, new InputBinding.History(ChunkRegression.HISTORY_DEPTH)),
+                Map.of(PolicyExport.INPUT, new InputBinding.History(ChunkRegression.HISTORY_DEPTH,
+                        Math.round(ChunkRegression.HISTORY_SPACING * 1e9), true, false)),
                 new OutputSpec(PolicyExport.OUTPUT, ChunkLayout.BATCH_STEPS_VALUES, ChunkRegression.K, DipCell.D),
                 SessionSettings.DEFAULTS.withWarmupRuns(2));
         policy = OnnxPolicy.load(spec);
@@ -76,9 +78,11 @@ class PolicyDemoTest {
 
     @Test
     void theOnnxModelComputesTheFittedProductWithinFloat32Rounding() throws Exception {
-        // Fed as the demo feeds it, one call per query period, weft's history input must line up
-        // with the training rows: oldest first, the current observation last, the first repeated.
+        // Fed as weft's loop feeds it, the history input on its grid (0.05 s apart, oldest first, the
+        // current observation last, a point before the first sample taking the first sample), the
+        // model must compute the training rows' product.
         Episode e = RecordingCsv.read(recording(BuildDemo.HELD_OUT));
+        PolicyInput in = PolicyInput.forPolicy(policy);
         double[] obs = new double[ChunkRegression.OBSERVATION];
         double[] x = new double[ChunkRegression.FEATURES];
         double[] want = new double[ChunkRegression.TARGETS];
@@ -87,8 +91,14 @@ class PolicyDemoTest {
         double worstBound = 0;
         int calls = 0;
         for (int i = 0; i < ChunkRegression.rowCount(e); i += ChunkRegression.QUERY_SAMPLES, calls++) {
-            e.observation(i, obs, 0);
-            policy.infer(obs, i * 5L, got);
+            e.observation(i, in.observation(), 0);
+            for (int slot = 0; slot < ChunkRegression.HISTORY_DEPTH; slot++) {
+                int sample = Math.max(0, i - (ChunkRegression.HISTORY_DEPTH - 1 - slot) * ChunkRegression.QUERY_SAMPLES);
+                e.observation(sample, obs, 0);
+                System.arraycopy(obs, 0, in.history(0), slot * ChunkRegression.OBSERVATION, ChunkRegression.OBSERVATION);
+            }
+            in.stamp(i * 5L, 0);
+            policy.infer(in, got);
             ChunkRegression.features(e, i, x);
             fit.predict(x, want);
             for (int t = 0; t < ChunkRegression.TARGETS; t++) {

@@ -120,10 +120,11 @@ final class DryRunCommand implements Callable<Integer> {
             worst = Double.isNaN(worst) || v > worst ? v : worst;
         }
         out.printf(Locale.ROOT, "%-9s %s: %d ticks, %d stops, %d bound violations, worst RMS error %s,"
-                        + " inference p99 %.3f ms (modelled as %d ticks)%n", s.passed() ? "PASS" : "FAIL", s.name(),
+                        + " inference p50 %.3f ms, p99 %.3f ms (modelled as %d ticks), %d stale steps dropped,"
+                        + " %d queries deferred%n", s.passed() ? "PASS" : "FAIL", s.name(),
                 s.ticks(), s.stops().size(), s.boundViolations(),
                 Double.isNaN(worst) ? "n/a (never armed)" : String.format(Locale.ROOT, "%.4f", worst),
-                s.inferenceMs().p99(), s.latencyTicks());
+                s.inferenceMs().p50(), s.inferenceMs().p99(), s.latencyTicks(), s.staleDropped(), s.deferredQueries());
         for (DryRunSummary.Gate g : s.gates()) {
             if (!g.passed()) {
                 out.printf(Locale.ROOT, "          gate %s failed: %s against %s%n", g.name(), fmt(g.value()),

@@ -164,8 +164,9 @@ final class RunCommand implements Callable<Integer> {
         }
         LoopStatus s = weft.status();
         out.printf(Locale.ROOT, "ended %s after %d ticks: %d overruns, %d deadlines skipped, %d chunks, %d inference"
-                        + " failures, %d frames dropped by the port, %s%n", s.state(), s.ticks(),
-                s.overruns(), s.skipped(), s.chunksAccepted(), s.inferenceFailures(), s.portDropped(),
+                        + " failures, %d queries deferred, %d frames dropped by the port, %s%n", s.state(), s.ticks(),
+                s.overruns(), s.skipped(), s.chunksAccepted(), s.inferenceFailures(), s.deferredQueries(),
+                s.portDropped(),
                 s.telemetry() == null ? "no telemetry" : "telemetry: " + s.telemetry());
         if (weft.telemetryFailure() != null) {
             out.println("telemetry failed: " + weft.telemetryFailure());

@@ -266,7 +266,20 @@ final class ConfigParser {
             case STEP -> out = new InputBinding.Step();
             case HISTORY -> {
                 Integer depth = b.count("depth", null, 1);
-                out = depth == null ? null : new InputBinding.History(depth);
+                Double spacing = b.positive("spacing", null);
+                Boolean withCurrent = b.flag("with_current", Boolean.TRUE);
+                String between = b.choice("between_samples", new String[] {"latest", "linear"}, x -> x, "latest");
+                if (depth != null && spacing != null && withCurrent != null && between != null) {
+                    long nanos = Math.round(spacing * 1e9);
+                    if (nanos <= 0) {
+                        b.problem("spacing", "must be at least 1 ns, got " + spacing);
+                    } else if (nanos > InputBinding.History.MAX_SPAN_NANOS / (depth + 1L)) {
+                        b.problem("spacing", depth + " points " + spacing + " s apart span more than "
+                                + InputBinding.History.MAX_SPAN_NANOS / 1_000_000_000L + " s");
+                    } else {
+                        out = new InputBinding.History(depth, nanos, withCurrent, between.equals("linear"));
+                    }
+                }
             }
             case CONSTANT -> {
                 Map<String, JsonNode> values = b.list("values", true);

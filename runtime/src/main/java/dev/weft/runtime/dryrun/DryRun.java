@@ -199,18 +199,19 @@ public final class DryRun {
         long commandRows = countRows(commands);
         long violations = recheckBounds(commands, limits, period);
         long staleDropped = weft.status().staleSteps();
+        long deferred = weft.status().deferredQueries();
         List<DryRunSummary.Stop> stops = new ArrayList<>();
         synchronized (stopEvents) {
             for (long[] e : stopEvents) {
                 stops.add(new DryRunSummary.Stop(e[0], e[1] / 1e9, (int) e[2], Cause.message((int) e[2])));
             }
         }
-        return finish(run, recording, o, s, commandRows, violations, staleDropped, stops, inferenceMs, latencyMs,
+        return finish(run, recording, o, s, commandRows, violations, staleDropped, deferred, stops, inferenceMs, latencyMs,
                 latencyTicks, weft.loop().autoArmResult(), commands, telemetry, rows);
     }
 
     private static Result finish(ConfiguredRun run, Recording recording, Options o, Series s, long commandRows,
-                                 long violations, long staleDropped, List<DryRunSummary.Stop> stops,
+                                 long violations, long staleDropped, long deferred, List<DryRunSummary.Stop> stops,
                                  DryRunSummary.Percentiles inferenceMs, double[] latencyMs, long latencyTicks,
                                  int armOutcome, Path commands, Path telemetry, RowCounts rows) throws IOException {
         JointLimits limits = run.limits();
@@ -282,7 +283,7 @@ public final class DryRun {
         DryRunSummary summary = new DryRunSummary(o.name(), recording.source(), names, o.closedLoop(), o.realtime(),
                 run.config().timing().controlPeriod(), o.realtime() ? -1 : latencyTicks, n, commandRows, rows.written(),
                 rows.handed(), rows.lost(), violations,
-                rms, max, new DryRunSummary.LimitCounts(pos, vel, acc, jerk), staleDropped, starved, events,
+                rms, max, new DryRunSummary.LimitCounts(pos, vel, acc, jerk), staleDropped, deferred, starved, events,
                 List.copyOf(stops), inferenceMs, periodErrorMs, passed, gates);
         List<DryRunTrace.JointTrace> traces = new ArrayList<>();
         for (int j = 0; j < joints; j++) {
@@ -465,6 +466,7 @@ public final class DryRun {
         limit.put("jerk", s.limitActive().jerk());
         m.put("limit_active", limit);
         m.put("stale_dropped", s.staleDropped());
+        m.put("deferred_queries", s.deferredQueries());
         m.put("starved_ticks", s.starvedTicks());
         m.put("watchdog_events", s.watchdogEvents());
         List<Object> stops = new ArrayList<>();

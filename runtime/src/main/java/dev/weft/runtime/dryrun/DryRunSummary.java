@@ -24,6 +24,7 @@ import java.util.List;
  * @param maxError per joint, largest |command − recorded action|
  * @param limitActive ticks on which each limit shaped the command of at least one joint
  * @param staleDropped chunk steps dropped because their time had passed
+ * @param deferredQueries due queries the busy policy could not take at their tick (issued once it was free)
  * @param starvedTicks ticks with no plan
  * @param watchdogEvents ticks on which a watchdog condition appeared (rising edges)
  * @param stops every stop: tick and cause
@@ -35,7 +36,7 @@ import java.util.List;
 public record DryRunSummary(String name, String recording, List<String> joints, boolean closedLoop, boolean realtime,
                             double controlPeriod, long latencyTicks, long ticks, long commands, long telemetryRows,
                             long telemetryHanded, long telemetryLost, long boundViolations, double[] rmsError, double[] maxError, LimitCounts limitActive,
-                            long staleDropped, long starvedTicks, long watchdogEvents, List<Stop> stops,
+                            long staleDropped, long deferredQueries, long starvedTicks, long watchdogEvents, List<Stop> stops,
                             Percentiles inferenceMs, Percentiles periodErrorMs, boolean passed, List<Gate> gates) {
 
     /** Ticks on which each limit shaped the command. */

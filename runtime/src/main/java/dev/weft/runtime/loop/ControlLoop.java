@@ -2,6 +2,8 @@ package dev.weft.runtime.loop;
 
 import dev.weft.filters.ChunkBlender;
 import dev.weft.filters.Smoother;
+import dev.weft.runtime.policy.InputBinding;
+import dev.weft.runtime.policy.PolicyInput;
 import dev.weft.runtime.port.CommandFrame;
 import dev.weft.runtime.port.CommandPort;
 import dev.weft.runtime.source.ObservationSource;
@@ -140,6 +142,12 @@ public final class ControlLoop implements AutoCloseable {
     private volatile int autoArmResult = Integer.MIN_VALUE;
     /** The next tick at which a query is due ({@link LoopSettings#queryEveryTicks()} > 0). */
     private long nextQueryTick;
+    /** A query fell due and has not been issued yet (the worker was busy, or no usable observation). */
+    private boolean queryPending;
+    /** The request handed to the worker, refilled in place. */
+    private final PolicyInput query;
+    /** The observation stream's samples, kept per tick for the policy's history grids; null without grids. */
+    private final SampleHistory history;
     /** Watchdog bits of the conditions the loop itself saw this tick, before the watchdog check. */
     private int reportedNow;
     /** Bits seen after the check (the command had gone out): reported at the next tick's check. */
@@ -148,6 +156,11 @@ public final class ControlLoop implements AutoCloseable {
     private int lastReported;
     private int consecutiveSupervisorFaults;
     private int consecutiveEscapes;
+    /**
+     * How old a queried observation may be with its history grids still complete: the sample ring
+     * holds this much more than the grids' span (an older observation is stale long before).
+     */
+    private static final long HISTORY_LATENESS_NANOS = 1_000_000_000L;
     /** A tick that throws past every guard this many times in a row ends the loop (with the alarm). */
     private static final int ESCAPES_MAX = 3;
     private double[] rangeLow;
@@ -177,6 +190,7 @@ public final class ControlLoop implements AutoCloseable {
     private final AtomicLong watchdogMask = new AtomicLong();
     private final AtomicLong inferences = new AtomicLong();
     private final AtomicLong inferenceFailures = new AtomicLong();
+    private final AtomicLong deferredQueries = new AtomicLong();
     private volatile SupervisorState state = SupervisorState.DISARMED;
 
     /**
@@ -231,6 +245,14 @@ public final class ControlLoop implements AutoCloseable {
         this.periodSeconds = settings.periodNanos() / 1e9;
         this.tickRate = 1e9 / settings.periodNanos();
         this.frame = new CommandFrame(joints);
+        java.util.List<InputBinding.History> grids = worker.histories();
+        this.query = new PolicyInput(source.size(), grids);
+        long span = 0;
+        for (InputBinding.History g : grids) {
+            span = Math.max(span, g.spanNanos());
+        }
+        this.history = grids.isEmpty() ? null
+                : new SampleHistory(source.size(), SampleHistory.capacityFor(span, HISTORY_LATENESS_NANOS, period));
         primeRecorders();
     }
 
@@ -503,18 +525,43 @@ public final class ControlLoop implements AutoCloseable {
 
         handleCommand(n, deadline);
 
-        // 2 inference request on schedule: a due query whose tick was skipped is made at the next
-        // tick that runs, never lost
+        // the history grids' samples: kept per tick from the stream, never per inference call
+        if (usable && history != null) {
+            history.keep(obsTime, observation);
+        }
+
+        // 2 inference request on schedule. With a fixed schedule a query falls due on its grid of
+        // ticks (a due tick that was skipped falls due at the next tick that runs); a due query the
+        // busy worker cannot take is counted as deferred and issued as soon as the worker is free,
+        // while the grid stays where it is. The request's origin is its observation's time.
         int every = settings.queryEveryTicks();
         try {
-            boolean due = every > 0 ? n >= nextQueryTick : worker.idle();
-            if (usable && due) {
-                worker.request(observation, n);
-                if (every > 0) {
+            if (every > 0) {
+                if (n >= nextQueryTick) {
                     nextQueryTick = (n / every + 1) * every;
+                    queryPending = true;
+                    if (!worker.idle()) {
+                        deferredQueries.lazySet(deferredQueries.get() + 1);
+                    }
                 }
-                if (requestedAtNanos < 0) {
-                    requestedAtNanos = start;
+            } else {
+                queryPending = true;
+            }
+            if (queryPending && usable && worker.idle()) {
+                long origin = originTick(obsTime, n);
+                if (origin >= 0) {
+                    System.arraycopy(observation, 0, query.observation(), 0, observation.length);
+                    query.stamp(origin, obsTime);
+                    if (history != null) {
+                        for (int g = 0; g < query.grids().size(); g++) {
+                            history.gather(query.grids().get(g), obsTime, query.history(g));
+                        }
+                    }
+                    worker.request(query, n);
+                    queryPending = false;
+                    if (requestedAtNanos < 0) {
+                        requestedAtNanos = start;
+                    }
                 }
             }
         } catch (Throwable t) {
@@ -837,6 +884,16 @@ public final class ControlLoop implements AutoCloseable {
         }
     }
 
+    /**
+     * The control tick nearest to an observation's time (tick {@code k} is at {@code t0 + k·Δc}),
+     * at most {@code now}; −1 for an observation taken more than half a period before tick 0,
+     * whose chunk would begin before the loop did (the query then waits for a newer one).
+     */
+    private long originTick(long obsTime, long now) {
+        long k = Math.floorDiv(obsTime - t0 + period / 2, period);
+        return k < 0 ? -1 : Math.min(k, now);
+    }
+
     /** Index of the first value of the chunk outside its joint's widened position range, or -1 (NaN is left to the blender). */
     private int outsideRange(double[] chunk, int steps) {
         int n = steps * joints;
@@ -988,7 +1045,7 @@ public final class ControlLoop implements AutoCloseable {
     public LoopStatus status() {
         return new LoopStatus(state.name().toLowerCase(java.util.Locale.ROOT), ticks.get(), overruns.get(),
                 skipped.get(), planTicks.get(), (int) watchdogMask.get(), blender.acceptedChunks(), blender.staleSteps(),
-                inferences.get(), inferenceFailures.get(), port.dropped(), telemetry == null ? null : telemetry.counts());
+                inferences.get(), inferenceFailures.get(), deferredQueries.get(), port.dropped(), telemetry == null ? null : telemetry.counts());
     }
 
     /** The three timing histograms, moved out of the recorders since the previous call. */

@@ -1,5 +1,9 @@
 package dev.weft.runtime.loop;
 
+import dev.weft.runtime.policy.InputBinding;
+import dev.weft.runtime.policy.PolicyInput;
+import java.util.List;
+
 /**
  * How the control loop gets chunks from the policy: it hands over requests and drains finished
  * results, and never waits. {@link InferenceWorker} runs the policy on its own thread (live runs);
@@ -11,8 +15,17 @@ package dev.weft.runtime.loop;
  */
 public interface Inference extends AutoCloseable {
 
-    /** Hands over an observation taken at {@code tick}; copies it; a newer request may replace an older one. */
-    void request(double[] observation, long tick);
+    /**
+     * Hands over a request (the observation, its origin tick and time, the history grids'
+     * samples) at control tick {@code nowTick} (at or after the input's origin tick); copies it; a
+     * newer request may replace an older one not yet started.
+     */
+    void request(PolicyInput input, long nowTick);
+
+    /** The history grids of the policy behind this inference, in the order its requests number them. */
+    default List<InputBinding.History> histories() {
+        return List.of();
+    }
 
     /** True when a request made now would be worked on at once. */
     boolean idle();

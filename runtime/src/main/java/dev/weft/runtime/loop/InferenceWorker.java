@@ -4,6 +4,7 @@ import com.lmax.disruptor.EventPoller;
 import com.lmax.disruptor.InsufficientCapacityException;
 import com.lmax.disruptor.RingBuffer;
 import dev.weft.runtime.policy.Policy;
+import dev.weft.runtime.policy.PolicyInput;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicInteger;
 import java.util.concurrent.locks.LockSupport;
@@ -34,13 +35,11 @@ public final class InferenceWorker implements Inference {
 
     private final Policy policy;
     private final LoopClock clock;
-    private final int observationSize;
     private final int steps;
     private final int chunkValues;
 
     // triple buffer of requests
-    private final double[][] requestValues = new double[3][];
-    private final long[] requestTick = new long[3];
+    private final PolicyInput[] requestSlots = new PolicyInput[3];
     private final AtomicInteger middle = new AtomicInteger(1);
     private int back = 0;   // loop's slot
     private int front = 2;  // worker's slot
@@ -84,11 +83,10 @@ public final class InferenceWorker implements Inference {
         }
         this.policy = policy;
         this.clock = clock;
-        this.observationSize = policy.observationSize();
         this.steps = policy.chunkLength();
         this.chunkValues = policy.chunkLength() * policy.actionSize();
         for (int i = 0; i < 3; i++) {
-            requestValues[i] = new double[observationSize];
+            requestSlots[i] = PolicyInput.forPolicy(policy);
         }
         final int values = chunkValues;
         this.results = RingBuffer.createSingleProducer(() -> new ResultEvent(values), ringSize);
@@ -105,13 +103,12 @@ public final class InferenceWorker implements Inference {
     }
 
     /**
-     * Hands the worker a new observation. If the worker has not yet taken the previous request,
-     * this one replaces it. Copies {@code observation}; never blocks.
+     * Hands the worker a new request. If the worker has not yet taken the previous request, this
+     * one replaces it. Copies {@code input}; never blocks.
      */
     @Override
-    public void request(double[] observation, long tick) {
-        System.arraycopy(observation, 0, requestValues[back], 0, observationSize);
-        requestTick[back] = tick;
+    public void request(PolicyInput input, long nowTick) {
+        requestSlots[back].copyFrom(input);
         int previous = middle.getAndSet(back | FRESH);
         back = previous & INDEX;
         requests++;
@@ -119,6 +116,11 @@ public final class InferenceWorker implements Inference {
             replacedRequests++;
         }
         LockSupport.unpark(thread);
+    }
+
+    @Override
+    public java.util.List<dev.weft.runtime.policy.InputBinding.History> histories() {
+        return policy.histories();
     }
 
     /** True when the worker is not computing and no request is waiting. */
@@ -169,12 +171,12 @@ public final class InferenceWorker implements Inference {
             }
             computing = true;
             front = middle.getAndSet(front) & INDEX;
-            double[] observation = requestValues[front];
-            long tick = requestTick[front];
+            PolicyInput input = requestSlots[front];
+            long tick = input.tick();
             long start = clock.nanoTime();
             int status;
             try {
-                policy.infer(observation, tick, chunk);
+                policy.infer(input, chunk);
                 status = allFinite(chunk) ? ChunkSink.OK : ChunkSink.NON_FINITE;
             } catch (Throwable t) {
                 status = ChunkSink.FAILED;

@@ -15,13 +15,15 @@ import dev.weft.runtime.telemetry.RowCounts;
  * @param staleSteps chunk steps dropped because their time had passed
  * @param inferences inferences finished (any status)
  * @param inferenceFailures inferences that threw or returned non-finite values
+ * @param deferredQueries due queries (fixed schedule) the busy worker could not take at their tick;
+ *     each was issued once the worker was free, the schedule staying on its grid
  * @param portDropped frames the port dropped
  * @param telemetry what became of the telemetry rows (handed over, written, lost, pending), or null
  *     when the run records no telemetry
  */
 public record LoopStatus(String state, long ticks, long overruns, long skipped, long planTicks, int watchdogMask,
                          long chunksAccepted, long staleSteps, long inferences, long inferenceFailures,
-                         long portDropped, RowCounts telemetry) {
+                         long deferredQueries, long portDropped, RowCounts telemetry) {
 
     /** Telemetry rows lost so far; 0 when the run records no telemetry. */
     public long telemetryLost() {

@@ -1,10 +1,12 @@
 package dev.weft.runtime.loop;
 
 import dev.weft.runtime.policy.Policy;
+import dev.weft.runtime.policy.PolicyInput;
 
 /**
  * Runs the policy in place, on the calling thread, and delivers each result exactly
- * {@code latencyTicks} ticks after its request: inference latency modelled as a whole number of
+ * {@code latencyTicks} ticks after the tick its computation starts at (the request's tick, or the
+ * delivery of the one before it): inference latency modelled as a whole number of
  * ticks, so that a run on a virtual clock is deterministic (the same inputs give the same
  * commands). While a result is in flight the model is busy, as a single worker would be; a
  * request made while busy replaces the waiting one (newest wins) and is started when the
@@ -20,8 +22,8 @@ public final class ModelledLatencyInference implements Inference {
     private final long latencyTicks;
     private final long periodNanos;
     private final double[] chunk;
-    private final double[] waitingObservation;
-    private long waitingTick = -1;
+    private final PolicyInput waiting;
+    private boolean hasWaiting;
     private boolean inFlight;
     private long readyTick;
     private long originTick;
@@ -43,26 +45,26 @@ public final class ModelledLatencyInference implements Inference {
         this.latencyTicks = latencyTicks;
         this.periodNanos = periodNanos;
         this.chunk = new double[policy.chunkLength() * policy.actionSize()];
-        this.waitingObservation = new double[policy.observationSize()];
+        this.waiting = PolicyInput.forPolicy(policy);
     }
 
     @Override
-    public void request(double[] observation, long tick) {
+    public void request(PolicyInput input, long nowTick) {
         if (inFlight) {
-            if (waitingTick >= 0) {
+            if (hasWaiting) {
                 replaced++;
             }
-            System.arraycopy(observation, 0, waitingObservation, 0, waitingObservation.length);
-            waitingTick = tick;
+            waiting.copyFrom(input);
+            hasWaiting = true;
             return;
         }
-        compute(observation, tick, tick);
+        compute(input, nowTick);
     }
 
-    private void compute(double[] observation, long tick, long startTick) {
-        originTick = tick;
+    private void compute(PolicyInput input, long startTick) {
+        originTick = input.tick();
         try {
-            policy.infer(observation, tick, chunk);
+            policy.infer(input, chunk);
             status = ChunkSink.OK;
             for (double v : chunk) {
                 if (!Double.isFinite(v)) {
@@ -76,6 +78,11 @@ public final class ModelledLatencyInference implements Inference {
         }
         inFlight = true;
         readyTick = startTick + latencyTicks;
+    }
+
+    @Override
+    public java.util.List<dev.weft.runtime.policy.InputBinding.History> histories() {
+        return policy.histories();
     }
 
     @Override
@@ -96,10 +103,9 @@ public final class ModelledLatencyInference implements Inference {
             long started = readyTick - latencyTicks;
             sink.onChunk(chunk, policy.chunkLength(), originTick, (readyTick - started) * periodNanos, status);
             delivered++;
-            if (waitingTick >= 0) {
-                long t = waitingTick;
-                waitingTick = -1;
-                compute(waitingObservation, t, readyTick);
+            if (hasWaiting) {
+                hasWaiting = false;
+                compute(waiting, readyTick);
             }
         }
         return delivered;

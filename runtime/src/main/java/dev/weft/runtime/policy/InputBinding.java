@@ -43,10 +43,26 @@ public sealed interface InputBinding {
     }
 
     /**
-     * The last {@code depth} observations passed to the policy, oldest first, one per inference
-     * call. Before {@code depth} calls have happened the first observation fills the older slots.
+     * The observation stream sampled on a fixed time grid that ends at the query's observation
+     * time {@code T}, oldest first: {@code depth} points {@code spacingNanos} apart, the last one at
+     * {@code T} when {@code withCurrent}, else at {@code T − spacing} (the previous samples only,
+     * for a model that takes the current state in an input of its own). Grid point {@code t} takes
+     * the latest sample stamped at or before {@code t}, or with {@code linear} the straight line
+     * between that sample and the next one; a point before the first sample the loop kept takes
+     * that first sample. The loop keeps the samples once per tick from the stream, never per
+     * inference call, so the history does not depend on when queries happen or how long they take.
+     *
+     * @param depth grid points, ≥ 1
+     * @param spacingNanos time between grid points, > 0 (for example the observation period the
+     *     policy was trained at)
+     * @param withCurrent whether the last grid point is the query's observation itself
+     * @param linear interpolate between the samples around a grid point instead of taking the
+     *     latest one at or before it
      */
-    record History(int depth) implements InputBinding {
+    record History(int depth, long spacingNanos, boolean withCurrent, boolean linear) implements InputBinding {
+        /** Largest time a grid may span: a ring of samples that long is kept per tick. */
+        public static final long MAX_SPAN_NANOS = 60_000_000_000L;
+
         @Override
         public Kind kind() {
             return Kind.HISTORY;
@@ -56,6 +72,23 @@ public sealed interface InputBinding {
             if (depth < 1) {
                 throw new IllegalArgumentException("history depth must be >= 1, got " + depth);
             }
+            if (spacingNanos <= 0) {
+                throw new IllegalArgumentException("history spacing must be > 0 ns, got " + spacingNanos);
+            }
+            if (spacingNanos > MAX_SPAN_NANOS / (depth + 1)) {
+                throw new IllegalArgumentException("a history of " + depth + " points " + spacingNanos
+                        + " ns apart spans more than " + MAX_SPAN_NANOS / 1_000_000_000L + " s");
+            }
+        }
+
+        /** How far before the query's observation time the grid's oldest point lies, ns. */
+        public long spanNanos() {
+            return (withCurrent ? depth - 1L : depth) * spacingNanos;
+        }
+
+        /** The time of grid point {@code i} (0 = oldest) for observation time {@code t}. */
+        public long pointTime(long t, int i) {
+            return t - (withCurrent ? depth - 1L - i : (long) depth - i) * spacingNanos;
         }
 
         @Override

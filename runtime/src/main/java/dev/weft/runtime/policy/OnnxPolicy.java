@@ -49,6 +49,9 @@ public final class OnnxPolicy implements Policy {
     private final String outputName;
     private final ChunkLayout layout;
     private final long[] outputShape;
+    private final List<InputBinding.History> histories;
+    /** The request for a call made with an observation alone (no stream of samples behind it). */
+    private final PolicyInput direct;
     private boolean closed;
 
     private OnnxPolicy(ModelSignature signature, OrtSession session, OrtSession.SessionOptions options, int observationSize,
@@ -66,10 +69,17 @@ public final class OnnxPolicy implements Policy {
         this.layout = layout;
         this.outputShape = outputShape;
         Map<String, OnnxTensor> in = new HashMap<>();
+        List<InputBinding.History> grids = new ArrayList<>();
         for (Bound b : bound) {
             in.put(b.name, b.tensor);
+            if (b.binding instanceof InputBinding.History h) {
+                b.historyIndex = grids.size();
+                grids.add(h);
+            }
         }
         this.inputs = in;
+        this.histories = List.copyOf(grids);
+        this.direct = new PolicyInput(observationSize, histories);
         this.pinned = Map.of(outputName, outputTensor);
         if (outputTensor.getInfo().type == OnnxJavaType.FLOAT) {
             this.outputFloats = directFloats(outputTensor);
@@ -168,13 +178,31 @@ public final class OnnxPolicy implements Policy {
         return outputShape.clone();
     }
 
+    /** The history inputs' grids, in model input order. */
+    @Override
+    public List<InputBinding.History> histories() {
+        return histories;
+    }
+
+    /**
+     * One call with an observation alone, outside a control loop (a latency probe, a benchmark):
+     * every history input holds this observation at each of its grid points.
+     */
     @Override
     public void infer(double[] observation, long tick, double[] chunk) {
+        System.arraycopy(observation, 0, direct.observation(), 0, observationSize);
+        direct.stamp(tick, 0);
+        direct.historiesFromObservation();
+        infer(direct, chunk);
+    }
+
+    @Override
+    public void infer(PolicyInput input, double[] chunk) {
         if (closed) {
             throw new IllegalStateException("policy is closed");
         }
         for (Bound b : bound) {
-            b.fill(observation, tick);
+            b.fill(input);
         }
         try (OrtSession.Result ignored = session.run(inputs, pinned)) {
             int n = chunkLength * actionSize;
@@ -536,7 +564,7 @@ public final class OnnxPolicy implements Policy {
         options.close();
     }
 
-    /** One input tensor, its buffer, and the state its source keeps (history ring, generator). */
+    /** One input tensor, its buffer, and the state its source keeps (the noise generator). */
     private static final class Bound {
         final String name;
         final InputBinding binding;
@@ -547,10 +575,9 @@ public final class OnnxPolicy implements Policy {
         final LongBuffer longs;
         final int count;
         final int observationSize;
-        final double[] history;
         SplittableRandom random;
-        int historyFilled;
-        int historyHead;
+        /** Which of the request's history grids this input reads; −1 for other sources. */
+        int historyIndex = -1;
 
         private Bound(String name, InputBinding binding, long[] shape, OnnxTensor tensor, int count, int observationSize) {
             this.name = name;
@@ -563,7 +590,6 @@ public final class OnnxPolicy implements Policy {
             this.floats = ref instanceof FloatBuffer f ? f : null;
             this.doubles = ref instanceof DoubleBuffer d ? d : null;
             this.longs = ref instanceof LongBuffer l ? l : null;
-            this.history = binding instanceof InputBinding.History h ? new double[h.depth() * observationSize] : null;
             this.random = binding instanceof InputBinding.Noise n ? new SplittableRandom(n.seed()) : null;
             if (binding instanceof InputBinding.Constant c) {
                 double[] v = c.values();
@@ -579,53 +605,35 @@ public final class OnnxPolicy implements Policy {
         }
 
         void restart() {
-            historyFilled = 0;
-            historyHead = 0;
             if (binding instanceof InputBinding.Noise n) {
                 // a fresh generator from the same seed: warm-up draws do not shift the sequence
                 random = new SplittableRandom(n.seed());
             }
         }
 
-        void fill(double[] observation, long tick) {
+        void fill(PolicyInput input) {
             switch (binding.kind()) {
                 case OBSERVATION -> {
+                    double[] observation = input.observation();
                     for (int i = 0; i < count; i++) {
                         put(i, observation[i]);
                     }
                 }
-                case HISTORY -> fillHistory(observation, ((InputBinding.History) binding).depth());
+                case HISTORY -> {
+                    double[] h = input.history(historyIndex);
+                    for (int i = 0; i < count; i++) {
+                        put(i, h[i]);
+                    }
+                }
                 case NOISE -> {
                     double stddev = ((InputBinding.Noise) binding).stddev();
                     for (int i = 0; i < count; i++) {
                         put(i, random.nextGaussian() * stddev);
                     }
                 }
-                case STEP -> put(0, tick);
+                case STEP -> put(0, input.tick());
                 case CONSTANT -> {
                     // written once at construction
-                }
-            }
-        }
-
-        private void fillHistory(double[] observation, int depth) {
-            int o = observationSize;
-            if (historyFilled == 0) {
-                for (int slot = 0; slot < depth; slot++) {
-                    System.arraycopy(observation, 0, history, slot * o, o);
-                }
-                historyFilled = depth;
-                historyHead = 0;
-            } else {
-                System.arraycopy(observation, 0, history, historyHead * o, o);
-                historyHead = (historyHead + 1) % depth;
-            }
-            // historyHead now points at the oldest slot
-            int idx = 0;
-            for (int s = 0; s < depth; s++) {
-                int slot = (historyHead + s) % depth;
-                for (int i = 0; i < o; i++) {
-                    put(idx++, history[slot * o + i]);
                 }
             }
         }

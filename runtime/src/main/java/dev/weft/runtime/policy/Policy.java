@@ -1,5 +1,7 @@
 package dev.weft.runtime.policy;
 
+import java.util.List;
+
 /**
  * A trained policy as the runtime sees it: an observation in, an action chunk out.
  *
@@ -29,6 +31,27 @@ public interface Policy extends AutoCloseable {
      * @throws RuntimeException when the policy fails; the caller turns it into a watchdog condition
      */
     void infer(double[] observation, long tick, double[] chunk);
+
+    /**
+     * The history grids this policy reads, in the order {@link PolicyInput#history(int)} numbers
+     * them; the control loop samples the observation stream on each of them for every query.
+     * Default: none.
+     */
+    default List<InputBinding.History> histories() {
+        return List.of();
+    }
+
+    /**
+     * Computes one chunk from a full request: the observation, its tick and time, and the
+     * observation stream sampled on each of {@link #histories()}. The default calls
+     * {@link #infer(double[], long, double[])} with the observation and its tick.
+     *
+     * @param input read only, not retained
+     * @param chunk as {@link #infer(double[], long, double[])}
+     */
+    default void infer(PolicyInput input, double[] chunk) {
+        infer(input.observation(), input.tick(), chunk);
+    }
 
     /** Releases native resources; idempotent. */
     @Override

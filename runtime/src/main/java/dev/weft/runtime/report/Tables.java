@@ -47,6 +47,7 @@ final class Tables {
         row(m, "boundViolations", "ticks beyond a limit in the command file (must be 0)",
                 Long.toString(s.boundViolations()));
         row(m, "staleDropped", "chunk steps dropped as already past", Long.toString(s.staleDropped()));
+        row(m, "deferredQueries", "due queries deferred (the policy was busy)", Long.toString(s.deferredQueries()));
         row(m, "starvedTicks", "ticks with no plan", Long.toString(s.starvedTicks()));
         row(m, "watchdogEvents", "watchdog conditions appearing", Long.toString(s.watchdogEvents()));
         row(m, "stops", "stops", Integer.toString(s.stops().size()));

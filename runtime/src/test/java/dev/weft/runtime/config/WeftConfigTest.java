@@ -230,7 +230,8 @@ class WeftConfigTest {
     void everyInputSourceMapsOntoItsBinding() throws Exception {
         String yaml = replace(VALID, "    obs: {source: observation}\n", """
                     state: {source: observation}
-                    past: {source: history, depth: 3}
+                    past: {source: history, depth: 3, spacing: 0.01}
+                    prior: {source: history, depth: 2, spacing: 0.1, with_current: false, between_samples: linear}
                     bias: {source: constant, values: [0.5, -1, 2e-3]}
                     noise: {source: noise, seed: -9007199254740993}
                     tick: {source: step}
@@ -238,10 +239,26 @@ class WeftConfigTest {
         Map<String, InputBinding> in = parse(yaml).policySpec().inputs();
         assertThat(in).containsExactly(
                 Map.entry("state", new InputBinding.Observation()),
-                Map.entry("past", new InputBinding.History(3)),
+                Map.entry("past", new InputBinding.History(3, 10_000_000L, true, false)),
+                Map.entry("prior", new InputBinding.History(2, 100_000_000L, false, true)),
                 Map.entry("bias", new InputBinding.Constant(new double[] {0.5, -1, 0.002})),
                 Map.entry("noise", new InputBinding.Noise(-9007199254740993L, 1.0, 0)),
                 Map.entry("tick", new InputBinding.Step()));
+    }
+
+    @Test
+    void aHistoryNeedsItsSpacingAndNamesEveryBadKey() {
+        String yaml = replace(VALID, "    obs: {source: observation}\n", """
+                    past: {source: history, depth: 3}
+                    prior: {source: history, depth: 2, spacing: -0.1, with_current: 1, between_samples: cubic}
+                    long: {source: history, depth: 1000, spacing: 1}
+                """);
+        assertThat(problems(yaml)).containsExactly(
+                "policy.inputs.past.spacing (line 21): is required",
+                "policy.inputs.prior.spacing (line 22): must be > 0, got -0.1",
+                "policy.inputs.prior.with_current (line 22): must be true or false, got 1",
+                "policy.inputs.prior.between_samples (line 22): must be one of latest, linear, got \"cubic\"",
+                "policy.inputs.long.spacing (line 23): 1000 points 1.0 s apart span more than 60 s");
     }
 
     @Test

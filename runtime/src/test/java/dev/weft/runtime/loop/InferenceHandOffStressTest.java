@@ -95,13 +95,15 @@ class InferenceHandOffStressTest {
             }
             lastOrigin[0] = origin;
         };
-        double[] obs = new double[OBS];
+        dev.weft.runtime.policy.PolicyInput input = dev.weft.runtime.policy.PolicyInput.forPolicy(policy);
+        double[] obs = input.observation();
         try {
             for (long t = 0; t < REQUESTS; t++) {
                 for (int j = 0; j < OBS; j++) {
                     obs[j] = 4.0 * t + j;
                 }
-                w.request(obs, t);
+                input.stamp(t, t);
+                w.request(input, t);
                 // drain on most ticks, let results pile up on some; always over the last ticks, so
                 // the ring has room for the last result
                 if (r.nextInt(100) < 90 || t >= REQUESTS - 2 * 8) {

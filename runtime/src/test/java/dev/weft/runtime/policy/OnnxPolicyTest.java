@@ -121,31 +121,44 @@ class OnnxPolicyTest {
     }
 
     @Test
-    void historyInputHoldsTheLastObservationsOldestFirst() throws Exception {
+    void historyInputCarriesTheRequestsGridSamplesOldestFirst() throws Exception {
         int s = 3;
         int depth = 4;
         Built b = PolicyModels.stateAndHistoryPolicy(s, depth, 16, 6, 2, 6);
         Map<String, InputBinding> inputs = new LinkedHashMap<>();
         inputs.put("state", new InputBinding.Observation());
-        inputs.put("history", new InputBinding.History(depth));
+        inputs.put("history", new InputBinding.History(depth, 10_000_000L, false, false));
         PolicySpec spec = new PolicySpec(write("hist.onnx", b), s, inputs,
                 new OutputSpec("actions", ChunkLayout.BATCH_STEPS_VALUES, 0, 0), SessionSettings.DEFAULTS);
         SplittableRandom r = new SplittableRandom(8);
-        double[][] obs = new double[6][];
-        for (int i = 0; i < obs.length; i++) {
-            obs[i] = randomObservation(r, s);
-        }
         try (OnnxPolicy p = OnnxPolicy.load(spec)) {
-            for (int call = 0; call < obs.length; call++) {
-                // expected history: the last `depth` observations, the first one repeated until filled
+            assertThat(p.histories()).containsExactly(new InputBinding.History(depth, 10_000_000L, false, false));
+            PolicyInput in = PolicyInput.forPolicy(p);
+            for (int call = 0; call < 4; call++) {
+                double[] obs = randomObservation(r, s);
+                System.arraycopy(obs, 0, in.observation(), 0, s);
+                double[] past = randomObservation(r, s * depth);
+                System.arraycopy(past, 0, in.history(0), 0, past.length);
+                in.stamp(call, call);
+                // the model's input: the state, then the history exactly as the request holds it
                 double[] x = new double[s * (depth + 1)];
-                System.arraycopy(obs[call], 0, x, 0, s);
-                for (int slot = 0; slot < depth; slot++) {
-                    int which = Math.max(0, call - (depth - 1) + slot);
-                    System.arraycopy(obs[which], 0, x, s * (slot + 1), s);
+                System.arraycopy(obs, 0, x, 0, s);
+                System.arraycopy(past, 0, x, s, past.length);
+                double[] chunk = new double[p.chunkLength() * p.actionSize()];
+                p.infer(in, chunk);
+                double[] expected = EjmlReference.forward(b.mlp(), x);
+                for (int i = 0; i < expected.length; i++) {
+                    assertThat(chunk[i]).as("value %d", i).isCloseTo(expected[i],
+                            org.assertj.core.data.Offset.offset(FLOAT32_TOLERANCE));
                 }
-                assertMatchesEjml(p, b.mlp(), x, obs[call], call);
             }
+            // called with an observation alone (no stream behind it), every grid point is that observation
+            double[] obs = randomObservation(r, s);
+            double[] x = new double[s * (depth + 1)];
+            for (int slot = 0; slot <= depth; slot++) {
+                System.arraycopy(obs, 0, x, slot * s, s);
+            }
+            assertMatchesEjml(p, b.mlp(), x, obs, 9);
         }
     }
 
@@ -272,7 +285,7 @@ class OnnxPolicyTest {
         Path m = write("hist.onnx", PolicyModels.stateAndHistoryPolicy(3, 4, 8, 2, 2, 1));
         Map<String, InputBinding> inputs = new LinkedHashMap<>();
         inputs.put("state", new InputBinding.Observation());
-        inputs.put("history", new InputBinding.History(5));
+        inputs.put("history", new InputBinding.History(5, 10_000_000L, true, false));
         assertThat(messageOf(new PolicySpec(m, 3, inputs, new OutputSpec(null, ChunkLayout.BATCH_STEPS_VALUES, 0, 0),
                 SessionSettings.DEFAULTS)))
                 .isEqualTo(m + " input 'history': shape [1, 4, 3] cannot hold the 15 values that history gives"

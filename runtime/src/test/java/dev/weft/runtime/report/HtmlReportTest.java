@@ -261,7 +261,7 @@ class HtmlReportTest {
         DryRunSummary odd = new DryRunSummary(s.name(), "C:\\runs\\<odd>&.h5", s.joints(), s.closedLoop(), s.realtime(),
                 s.controlPeriod(), s.latencyTicks(), s.ticks(), s.commands(), s.telemetryRows(),
                 s.telemetryHanded(), s.telemetryLost(), s.boundViolations(),
-                s.rmsError(), s.maxError(), s.limitActive(), s.staleDropped(), s.starvedTicks(), s.watchdogEvents(),
+                s.rmsError(), s.maxError(), s.limitActive(), s.staleDropped(), s.deferredQueries(), s.starvedTicks(), s.watchdogEvents(),
                 stops, s.inferenceMs(), s.periodErrorMs(), s.passed(),
                 List.of(new DryRunSummary.Gate("error < 0.05 & stops", 0.05, 0.01, true)));
         String html = HtmlReport.render("<script>alert('x')</script>", List.of(new HtmlReport.Episode(odd, e.trace())));

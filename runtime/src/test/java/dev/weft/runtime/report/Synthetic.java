@@ -189,7 +189,7 @@ final class Synthetic {
                     new DryRunSummary.Gate("stops", faultTick >= 0 ? 1 : 0, stops.size(), true));
             DryRunSummary summary = new DryRunSummary(name, "/data/" + name + ".h5", List.of(joints), closedLoop,
                     realtime, PERIOD, realtime ? -1 : 3, n, n, n, n, 0, 0, rms, max,
-                    new DryRunSummary.LimitCounts(pos, vel, 0, 0), 12, 20, 3, stops,
+                    new DryRunSummary.LimitCounts(pos, vel, 0, 0), 12, 0, 20, 3, stops,
                     new DryRunSummary.Percentiles(1.55, 5.0, 5.4),
                     realtime ? new DryRunSummary.Percentiles(0.0, 0.03, 0.2) : null, passed, gates);
             DryRunTrace trace = new DryRunTrace(time, traces, states, masks, latency, period);
