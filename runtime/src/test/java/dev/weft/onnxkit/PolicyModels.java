@@ -184,6 +184,37 @@ public final class PolicyModels {
         return new Built(g.toBytes(), mlp);
     }
 
+    /**
+     * A plan the arm can follow, in closed form: {@code obs [1, O]} (multiplied by zero) and an
+     * int64 {@code step [1]} (the observation's control tick) → {@code actions [1, K, D]} with
+     * action {@code j} of joint {@code d} at {@code amplitude·sin(ω·(step·Δc + j·Δp) + d·π/D)},
+     * {@code ω = 2π·frequency}: every joint sweeps a sine, a phase apart, whatever the observation.
+     * Its peak velocity {@code amplitude·ω} and acceleration {@code amplitude·ω²} are the caller's
+     * to keep inside the limits.
+     */
+    public static byte[] sweepPolicy(int obs, int k, int d, double controlPeriod, double policyStep,
+                                     double amplitude, double frequency) {
+        OnnxGraph g = OnnxGraph.named("sweep_policy");
+        String x = g.input("obs", Element.FLOAT, 1, obs);
+        String step = g.input("step", Element.INT64, 1);
+        String zero = g.matMul(x, g.floats("zero", new float[obs * k * d], obs, (long) k * d));
+        double omega = 2 * Math.PI * frequency;
+        double[] offsets = new double[k * d];
+        for (int j = 0; j < k; j++) {
+            for (int i = 0; i < d; i++) {
+                offsets[j * d + i] = omega * j * policyStep + i * Math.PI / d;
+            }
+        }
+        // the phase in float64: after ten minutes at 1 kHz it is hundreds of radians, where float32
+        // would round it to 3e-5
+        String time = g.mul(g.cast(step, Element.DOUBLE), g.doubles("omega_dc", new double[] {omega * controlPeriod}, 1));
+        String phase = g.add(time, g.doubles("phase", offsets, 1, (long) k * d));
+        String wave = g.mul(g.op("Sin", phase), g.doubles("amplitude", new double[] {amplitude}, 1));
+        g.reshapeNamed("actions", g.add(g.cast(wave, Element.FLOAT), zero), 1, k, d);
+        g.output("actions", Element.FLOAT, 1, k, d);
+        return g.toBytes();
+    }
+
     /** The chunk policy in float64 throughout. */
     public static Built float64ChunkPolicy(int obs, int hidden, int k, int d, long seed) {
         Mlp mlp = Mlp.random(obs, hidden, k * d, seed);
