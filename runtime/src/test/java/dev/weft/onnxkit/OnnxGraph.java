@@ -169,6 +169,37 @@ public final class OnnxGraph {
         return opNamed("Identity", output, x);
     }
 
+    /**
+     * A node with attributes: each value a {@code String}, a {@code Long} or a {@code long[]}
+     * (ints); returns the output's name.
+     */
+    public String opWith(String opType, java.util.Map<String, Object> attributes, String... inputs) {
+        NodeProto.Builder n = NodeProto.newBuilder().setOpType(opType).setName(fresh("node_" + opType));
+        String output = fresh(opType);
+        n.addOutput(output);
+        for (String in : inputs) {
+            n.addInput(in);
+        }
+        for (java.util.Map.Entry<String, Object> e : attributes.entrySet()) {
+            AttributeProto.Builder a = AttributeProto.newBuilder().setName(e.getKey());
+            if (e.getValue() instanceof String text) {
+                a.setType(AttributeProto.AttributeType.STRING).setS(com.google.protobuf.ByteString.copyFromUtf8(text));
+            } else if (e.getValue() instanceof Long v) {
+                a.setType(AttributeProto.AttributeType.INT).setI(v);
+            } else if (e.getValue() instanceof long[] v) {
+                a.setType(AttributeProto.AttributeType.INTS);
+                for (long x : v) {
+                    a.addInts(x);
+                }
+            } else {
+                throw new IllegalArgumentException(e.getKey() + ": unsupported attribute value " + e.getValue());
+            }
+            n.addAttribute(a);
+        }
+        graph.addNode(n);
+        return output;
+    }
+
     /** The serialised model. */
     public byte[] toBytes() {
         ModelProto model = ModelProto.newBuilder()
