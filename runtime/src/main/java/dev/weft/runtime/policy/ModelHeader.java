@@ -92,6 +92,132 @@ public record ModelHeader(long irVersion, String producerName, String producerVe
         return new ModelHeader(ir, producer, producerVersion, List.copyOf(opsets));
     }
 
+    /**
+     * One initializer whose values live outside the model file (ONNX external data): the
+     * tensor's {@code external_data} entries {@code location}, {@code offset} and {@code length}.
+     *
+     * @param tensor the initializer's name
+     * @param location the data file as written in the model, relative to the model's folder
+     * @param offset where the tensor's bytes start in that file; 0 when not given
+     * @param length how many bytes it takes; -1 when not given (up to the end of the file)
+     */
+    public record ExternalTensor(String tensor, String location, long offset, long length) {
+    }
+
+    private static final int GRAPH_INITIALIZER = 5;
+    private static final int TENSOR_NAME = 8;
+    private static final int TENSOR_EXTERNAL_DATA = 13;
+    private static final int TENSOR_DATA_LOCATION = 14;
+    private static final long DATA_LOCATION_EXTERNAL = 1;
+
+    /**
+     * The graph's initializers marked {@code data_location = EXTERNAL}, in file order (field
+     * numbers from {@code onnx.proto}: graph 7, initializer 5; in a tensor name 8, external_data
+     * 13, data_location 14). Initializers of subgraphs are not looked at.
+     *
+     * @throws BadInputException when the bytes are not well-formed, or an entry's offset or length
+     *     is not a whole number
+     */
+    public static List<ExternalTensor> externalTensors(byte[] bytes, String where) throws BadInputException {
+        List<ExternalTensor> found = new ArrayList<>();
+        Reader r = new Reader(bytes, 0, bytes.length, where);
+        while (r.hasMore()) {
+            int fieldStart = r.pos;
+            long tag = r.varint();
+            if ((tag >>> 3) == 7 && (tag & 7) == LENGTH_DELIMITED) {
+                int len = r.length();
+                Reader g = new Reader(bytes, r.pos, r.pos + len, where);
+                r.pos += len;
+                while (g.hasMore()) {
+                    int start = g.pos;
+                    long t = g.varint();
+                    if ((t >>> 3) == GRAPH_INITIALIZER && (t & 7) == LENGTH_DELIMITED) {
+                        int n = g.length();
+                        ExternalTensor e = tensor(new Reader(bytes, g.pos, g.pos + n, where));
+                        g.pos += n;
+                        if (e != null) {
+                            found.add(e);
+                        }
+                    } else {
+                        g.skip((int) (t & 7), start);
+                    }
+                }
+            } else {
+                r.skip((int) (tag & 7), fieldStart);
+            }
+        }
+        return List.copyOf(found);
+    }
+
+    private static ExternalTensor tensor(Reader t) throws BadInputException {
+        String name = "";
+        long location = 0;
+        String file = null;
+        String offset = null;
+        String length = null;
+        while (t.hasMore()) {
+            int start = t.pos;
+            long tag = t.varint();
+            int f = (int) (tag >>> 3);
+            int w = (int) (tag & 7);
+            if (f == TENSOR_NAME && w == LENGTH_DELIMITED) {
+                name = t.string();
+            } else if (f == TENSOR_DATA_LOCATION && w == VARINT) {
+                location = t.varint();
+            } else if (f == TENSOR_EXTERNAL_DATA && w == LENGTH_DELIMITED) {
+                int n = t.length();
+                Reader e = new Reader(t.b, t.pos, t.pos + n, t.where);
+                t.pos += n;
+                String key = "";
+                String value = "";
+                while (e.hasMore()) {
+                    int s = e.pos;
+                    long et = e.varint();
+                    if ((et >>> 3) == 1 && (et & 7) == LENGTH_DELIMITED) {
+                        key = e.string();
+                    } else if ((et >>> 3) == 2 && (et & 7) == LENGTH_DELIMITED) {
+                        value = e.string();
+                    } else {
+                        e.skip((int) (et & 7), s);
+                    }
+                }
+                switch (key) {
+                    case "location" -> file = value;
+                    case "offset" -> offset = value;
+                    case "length" -> length = value;
+                    default -> { }
+                }
+            } else {
+                t.skip(w, start);
+            }
+        }
+        if (location != DATA_LOCATION_EXTERNAL) {
+            return null;
+        }
+        String where = t.where + " initializer '" + name + "'";
+        if (file == null || file.isEmpty()) {
+            throw new BadInputException(where, "keeps its data outside the model but names no file"
+                    + " (external_data has no \"location\")");
+        }
+        return new ExternalTensor(name, file, number(offset, 0, "offset", where), number(length, -1, "length", where));
+    }
+
+    private static long number(String text, long absent, String key, String where) throws BadInputException {
+        if (text == null) {
+            return absent;
+        }
+        try {
+            long v = Long.parseLong(text);
+            if (v >= 0) {
+                return v;
+            }
+        } catch (NumberFormatException ignored) {
+            // reported below
+        }
+        throw new BadInputException(where, "external_data \"" + key + "\" must be a whole number >= 0, got \""
+                + text + "\"");
+    }
+
     /** The version of the default operator set, or -1 when the model does not import it. */
     public long defaultOpset() {
         for (Opset o : opsets) {

@@ -29,9 +29,10 @@ public record ModelSignature(Path file, long sizeBytes, ModelHeader header, Stri
     public static ModelSignature read(Path file) throws BadInputException {
         byte[] bytes = readModelFile(file);
         ModelHeader header = ModelHeader.read(bytes, file.toString());
+        checkExternalData(file, bytes);
         OrtEnvironment env = OrtEnvironment.getEnvironment();
         try (OrtSession.SessionOptions options = new OrtSession.SessionOptions();
-             OrtSession session = openSession(env, bytes, options, file)) {
+             OrtSession session = openSession(env, options, file)) {
             return of(file, bytes.length, header, session);
         } catch (OrtException e) {
             throw new BadInputException(file.toString(), "ONNX Runtime could not read the model's interface: " + e.getMessage());
@@ -69,10 +70,55 @@ public record ModelSignature(Path file, long sizeBytes, ModelHeader header, Stri
         }
     }
 
-    static OrtSession openSession(OrtEnvironment env, byte[] bytes, OrtSession.SessionOptions options, Path file)
+    /**
+     * Checks every initializer kept as external data before ONNX Runtime reads it: the file is
+     * named relative to the model's folder and stays inside it, exists, is a regular file and holds
+     * the bytes the tensor's offset and length ask for.
+     *
+     * @param bytes the model file's contents
+     * @throws BadInputException naming the model file, the tensor and the data file
+     */
+    static void checkExternalData(Path file, byte[] bytes) throws BadInputException {
+        String where = file.toString();
+        Path folder = file.toAbsolutePath().normalize().getParent();
+        for (ModelHeader.ExternalTensor t : ModelHeader.externalTensors(bytes, where)) {
+            String about = where + " initializer '" + t.tensor() + "'";
+            Path named = Path.of(t.location());
+            Path data = folder.resolve(named).normalize();
+            if (named.isAbsolute() || !data.startsWith(folder) || data.equals(folder)) {
+                throw new BadInputException(about, "external data file \"" + t.location()
+                        + "\" is not a file inside the model's folder " + folder);
+            }
+            if (!Files.exists(data)) {
+                throw new BadInputException(about, "external data file " + data + " (\"" + t.location()
+                        + "\") does not exist; keep it beside the model");
+            }
+            if (!Files.isRegularFile(data)) {
+                throw new BadInputException(about, "external data file " + data + " is not a regular file");
+            }
+            long size;
+            try {
+                size = Files.size(data);
+            } catch (IOException e) {
+                throw new BadInputException(about, "cannot read external data file " + data + ": " + e.getMessage());
+            }
+            long end = t.length() < 0 ? size : t.offset() + t.length();
+            if (t.offset() > size || end > size || end < t.offset()) {
+                throw new BadInputException(about, "external data file " + data + " holds " + size
+                        + " bytes; the tensor asks for " + (t.length() < 0 ? "the rest" : t.length() + " bytes")
+                        + " from offset " + t.offset());
+            }
+        }
+    }
+
+    /**
+     * Opens a session on the model file by its path, so that ONNX Runtime finds external data
+     * beside it.
+     */
+    static OrtSession openSession(OrtEnvironment env, OrtSession.SessionOptions options, Path file)
             throws BadInputException {
         try {
-            return env.createSession(bytes, options);
+            return env.createSession(file.toString(), options);
         } catch (OrtException e) {
             throw new BadInputException(file.toString(), "ONNX Runtime refused the model: " + firstLine(e.getMessage()));
         }

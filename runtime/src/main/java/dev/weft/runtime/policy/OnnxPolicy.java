@@ -100,12 +100,13 @@ public final class OnnxPolicy implements Policy {
         byte[] bytes = ModelSignature.readModelFile(spec.model());
         String file = spec.model().toString();
         ModelHeader header = ModelHeader.read(bytes, file);
+        ModelSignature.checkExternalData(spec.model(), bytes);
         OrtEnvironment env = OrtEnvironment.getEnvironment();
         OrtSession.SessionOptions options = sessionOptions(spec.session(), file);
         OrtSession session = null;
         List<AutoCloseable> opened = new ArrayList<>();
         try {
-            session = ModelSignature.openSession(env, bytes, options, spec.model());
+            session = ModelSignature.openSession(env, options, spec.model());
             ModelSignature sig = ModelSignature.of(spec.model(), bytes.length, header, session);
             List<Problem> problems = new ArrayList<>();
             List<Plan> plans = planInputs(spec, sig, problems);
