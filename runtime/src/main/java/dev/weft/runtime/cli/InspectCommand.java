@@ -1,25 +1,39 @@
 package dev.weft.runtime.cli;
 
+import com.fasterxml.jackson.databind.ObjectMapper;
+import com.fasterxml.jackson.databind.SerializationFeature;
+import com.fasterxml.jackson.databind.node.ArrayNode;
+import com.fasterxml.jackson.databind.node.ObjectNode;
 import dev.weft.runtime.BadInputException;
 import dev.weft.runtime.policy.ModelHeader;
+import dev.weft.runtime.policy.ModelMetadata;
 import dev.weft.runtime.policy.ModelSignature;
 import dev.weft.runtime.policy.TensorSignature;
 import java.io.PrintWriter;
 import java.nio.file.Path;
 import java.util.List;
+import java.util.Map;
 import java.util.concurrent.Callable;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Option;
 import picocli.CommandLine.Parameters;
 
-/** {@code weft inspect MODEL}: prints a model's interface and what its outputs mean as chunks. */
+/**
+ * {@code weft inspect MODEL [--json]}: prints a model's interface, its descriptive fields and
+ * custom properties, and what its outputs mean as chunks.
+ */
 @Command(name = "inspect", mixinStandardHelpOptions = true,
         description = "Print an ONNX model's inputs and outputs (element type, shape with symbolic axes),"
-                + " its IR version, opsets and producer, and the chunk size K x D each output implies.")
+                + " its IR version, opsets, producer, domain, version, descriptions and custom metadata"
+                + " properties, and the chunk size K x D each output implies.")
 final class InspectCommand implements Callable<Integer> {
 
     @Parameters(paramLabel = "MODEL", description = "the ONNX model file")
     Path model;
+
+    @Option(names = "--json", description = "print the same facts as one JSON document")
+    boolean json;
 
     @CommandLine.Spec
     CommandLine.Model.CommandSpec spec;
@@ -36,7 +50,11 @@ final class InspectCommand implements Callable<Integer> {
             err.flush();
             return WeftCommand.COULD_NOT_RUN;
         }
-        print(sig, out);
+        if (json) {
+            out.println(json(sig));
+        } else {
+            print(sig, out);
+        }
         out.flush();
         return 0;
     }
@@ -55,6 +73,24 @@ final class InspectCommand implements Callable<Integer> {
             ops.append(o.displayDomain()).append(' ').append(o.version());
         }
         out.printf("format    IR %d, opset %s%n", h.irVersion(), ops.length() == 0 ? "(none imported)" : ops);
+        ModelMetadata m = sig.metadata();
+        out.printf("domain    %s%n", m.domain().isEmpty() ? "(not recorded)" : m.domain());
+        out.printf("version   %s%n", m.version() < 0 ? "(not recorded)" : Long.toString(m.version()));
+        text(out, "about     ", m.description());
+        text(out, "graph doc ", m.graphDescription());
+        out.println();
+        if (m.properties().isEmpty()) {
+            out.println("properties  (none)");
+        } else {
+            out.println("properties");
+            int keys = 0;
+            for (String k : m.properties().keySet()) {
+                keys = Math.max(keys, k.length());
+            }
+            for (Map.Entry<String, String> e : m.properties().entrySet()) {
+                text(out, String.format("  %-" + keys + "s  ", e.getKey()), e.getValue());
+            }
+        }
         int width = 4;
         for (TensorSignature t : sig.inputs()) {
             width = Math.max(width, t.name().length());
@@ -65,6 +101,74 @@ final class InspectCommand implements Callable<Integer> {
         out.println();
         section(out, "inputs", sig.inputs(), width, false);
         section(out, "outputs", sig.outputs(), width, true);
+    }
+
+    /** A labelled text, "(not recorded)" when empty; further lines indented under the first. */
+    private static void text(PrintWriter out, String label, String value) {
+        if (value.isEmpty()) {
+            out.println(label + "(not recorded)");
+            return;
+        }
+        String indent = " ".repeat(label.length());
+        List<String> lines = value.lines().toList();
+        for (int i = 0; i < lines.size(); i++) {
+            out.println((i == 0 ? label : indent) + lines.get(i));
+        }
+    }
+
+    /** The facts {@link #print} shows, as one JSON document. */
+    static String json(ModelSignature sig) {
+        ObjectMapper mapper = new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT);
+        ObjectNode root = mapper.createObjectNode();
+        ModelHeader h = sig.header();
+        ModelMetadata m = sig.metadata();
+        root.put("model", sig.file().toString());
+        root.put("size_bytes", sig.sizeBytes());
+        root.put("ir_version", h.irVersion());
+        ArrayNode opsets = root.putArray("opsets");
+        for (ModelHeader.Opset o : h.opsets()) {
+            opsets.addObject().put("domain", o.displayDomain()).put("version", o.version());
+        }
+        root.putObject("producer").put("name", h.producerName()).put("version", h.producerVersion());
+        root.putObject("graph").put("name", m.graphName()).put("description", m.graphDescription());
+        root.put("domain", m.domain());
+        root.put("description", m.description());
+        if (m.version() < 0) {
+            root.putNull("model_version");
+        } else {
+            root.put("model_version", m.version());
+        }
+        ObjectNode props = root.putObject("properties");
+        m.properties().forEach(props::put);
+        tensors(root.putArray("inputs"), sig.inputs(), false);
+        tensors(root.putArray("outputs"), sig.outputs(), true);
+        try {
+            return mapper.writeValueAsString(root);
+        } catch (com.fasterxml.jackson.core.JsonProcessingException e) {
+            throw new IllegalStateException("a JSON tree that cannot be written", e);
+        }
+    }
+
+    private static void tensors(ArrayNode into, List<TensorSignature> ts, boolean chunks) {
+        for (TensorSignature t : ts) {
+            ObjectNode n = into.addObject();
+            n.put("name", t.name());
+            n.put("element", t.elementLabel());
+            ArrayNode shape = n.putArray("shape");
+            long[] dims = t.shape();
+            for (int i = 0; i < dims.length; i++) {
+                if (dims[i] >= 0) {
+                    shape.add(dims[i]);
+                } else if (i < t.dimNames().length && t.dimNames()[i] != null && !t.dimNames()[i].isEmpty()) {
+                    shape.add(t.dimNames()[i]);
+                } else {
+                    shape.addNull();
+                }
+            }
+            if (chunks) {
+                n.put("as_chunk", t.chunkReading());
+            }
+        }
     }
 
     private static void section(PrintWriter out, String title, List<TensorSignature> ts, int width, boolean chunks) {

@@ -21,9 +21,10 @@ import java.util.List;
  * @param graphName the graph's name
  * @param inputs inputs in the model's order
  * @param outputs outputs in the model's order
+ * @param metadata the model's descriptive fields and custom properties
  */
 public record ModelSignature(Path file, long sizeBytes, ModelHeader header, String graphName,
-                             List<TensorSignature> inputs, List<TensorSignature> outputs) {
+                             List<TensorSignature> inputs, List<TensorSignature> outputs, ModelMetadata metadata) {
 
     /** Reads a model file's signature; the session used for it is closed before returning. */
     public static ModelSignature read(Path file) throws BadInputException {
@@ -45,7 +46,8 @@ public record ModelSignature(Path file, long sizeBytes, ModelHeader header, Stri
         List<TensorSignature> out = new ArrayList<>();
         session.getOutputInfo().values().forEach(n -> out.add(TensorSignature.of(n)));
         OnnxModelMetadata meta = session.getMetadata();
-        return new ModelSignature(file, size, header, meta.getGraphName(), List.copyOf(in), List.copyOf(out));
+        return new ModelSignature(file, size, header, meta.getGraphName(), List.copyOf(in), List.copyOf(out),
+                ModelMetadata.of(meta));
     }
 
     static byte[] readModelFile(Path file) throws BadInputException {
