@@ -15,7 +15,7 @@ import picocli.CommandLine.Command;
             Caution.LINE_3,
             ""
         },
-        subcommands = {InspectCommand.class, CheckCommand.class, RunCommand.class, DryRunCommand.class, DemoCommand.class,
+        subcommands = {InspectCommand.class, DraftCommand.class, CheckCommand.class, RunCommand.class, DryRunCommand.class, DemoCommand.class,
             CommandLine.HelpCommand.class},
         exitCodeListHeading = "%nExit codes:%n",
         exitCodeList = {
