@@ -175,8 +175,8 @@ final class DraftCommand implements Callable<Integer> {
 
         // ---- timing
         w.line(0, "timing:", null);
-        w.decide(1, "control_period: " + PLACEHOLDER, "s: the control loop's period (0.002 is 500 Hz)", 1);
-        w.decide(1, "policy_step: " + PLACEHOLDER, "s: the time between two actions of a chunk, as the policy was"
+        w.decide(1, "control_period: " + PLACEHOLDER, "seconds: the control loop's period (0.002 is 500 Hz)", 1);
+        w.decide(1, "policy_step: " + PLACEHOLDER, "seconds: the time between two actions of a chunk, as the policy was"
                 + " trained", 1);
         w.guess(1, "query: {schedule: when_idle}", "the next request as soon as the worker is free");
 
@@ -232,9 +232,9 @@ final class DraftCommand implements Callable<Integer> {
 
         // ---- watchdog, arming
         w.line(0, "watchdog:", null);
-        w.decide(1, "observation_age_max: " + PLACEHOLDER, "s: the oldest observation the policy may act on;"
+        w.decide(1, "observation_age_max: " + PLACEHOLDER, "seconds: the oldest observation the policy may act on;"
                 + " >= control_period", 1);
-        w.decide(1, "inference_latency_max: " + PLACEHOLDER, "s: weft check measures the model; below the plan"
+        w.decide(1, "inference_latency_max: " + PLACEHOLDER, "seconds: weft check measures the model; below the plan"
                 + " one chunk gives", 1);
         w.guess(1, "overruns_max: 3", "missed deadlines in a row before a stop");
         w.line(0, "arming:", null);

@@ -15,8 +15,8 @@ import picocli.CommandLine.Command;
             Caution.LINE_3,
             ""
         },
-        subcommands = {InspectCommand.class, DraftCommand.class, CheckCommand.class, RunCommand.class, DryRunCommand.class, DemoCommand.class,
-            CommandLine.HelpCommand.class},
+        subcommands = {InspectCommand.class, DraftCommand.class, CheckCommand.class, RunCommand.class, DryRunCommand.class,
+            DemoCommand.class, CommandLine.HelpCommand.class},
         exitCodeListHeading = "%nExit codes:%n",
         exitCodeList = {
             "0:done",
