@@ -132,6 +132,21 @@ class ExternalDataTest {
     }
 
     @Test
+    void anOffsetThatIsNotAWholeNumberIsRefusedBeforeAnythingIsOpened() throws Exception {
+        Path model = affineModel(dir, "weights.bin", new LinkedHashMap<>());
+        // rewrite W's "offset" entry with the ONNX standard's own protobuf classes
+        ai.onnx.proto.OnnxMl.ModelProto.Builder m = ai.onnx.proto.OnnxMl.ModelProto.parseFrom(Files.readAllBytes(model))
+                .toBuilder();
+        ai.onnx.proto.OnnxMl.TensorProto.Builder w = m.getGraphBuilder().getInitializerBuilder(0);
+        assertThat(w.getName()).isEqualTo("W");
+        w.setExternalData(1, w.getExternalData(1).toBuilder().setValue("4k"));
+        Files.write(model, m.build().toByteArray());
+        assertThatThrownBy(() -> OnnxPolicy.load(spec(model)))
+                .isInstanceOf(BadInputException.class)
+                .hasMessage(model + " initializer 'W': external_data \"offset\" must be a whole number >= 0, got \"4k\"");
+    }
+
+    @Test
     void aDataFileOutsideTheModelsFolderIsRefused() throws Exception {
         Path models = dir.resolve("models");
         Files.createDirectories(models);
