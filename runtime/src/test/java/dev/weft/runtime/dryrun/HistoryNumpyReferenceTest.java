@@ -145,29 +145,14 @@ class HistoryNumpyReferenceTest {
             assertThat(in).as("the reference script beside this test").isNotNull();
             Files.copy(in, script, StandardCopyOption.REPLACE_EXISTING);
         }
-        Process p = new ProcessBuilder(python(), script.toString(), specFile.toString(), outFile.toString())
+        Process p = new ProcessBuilder(dev.weft.runtime.Python3.withNumpy(), script.toString(), specFile.toString(),
+                outFile.toString())
                 .redirectErrorStream(true).start();
         String printed = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
         assertThat(p.waitFor(120, TimeUnit.SECONDS)).as("the NumPy reference finished").isTrue();
         assertThat(p.exitValue()).as("python3 with NumPy (Debian: python3-numpy) ran the reference: %s", printed)
                 .isZero();
         return json.readTree(outFile.toFile());
-    }
-
-    /** The first of python3 on the PATH and Debian's /usr/bin/python3 that imports NumPy (python3 if neither). */
-    static String python() throws Exception {
-        for (String candidate : List.of("python3", "/usr/bin/python3")) {
-            try {
-                Process p = new ProcessBuilder(candidate, "-c", "import numpy").redirectErrorStream(true).start();
-                p.getInputStream().readAllBytes();
-                if (p.waitFor(60, TimeUnit.SECONDS) && p.exitValue() == 0) {
-                    return candidate;
-                }
-            } catch (java.io.IOException notThere) {
-                // try the next one
-            }
-        }
-        return "python3";
     }
 
     private static void put(ArrayNode a, float[] v) {
