@@ -4,9 +4,11 @@ import static org.assertj.core.api.Assertions.assertThat;
 
 import dev.weft.onnxkit.PolicyModels;
 import dev.weft.runtime.policy.ChunkLayout;
+import dev.weft.runtime.policy.InputBinding;
 import dev.weft.runtime.policy.OnnxPolicy;
 import dev.weft.runtime.policy.OutputSpec;
 import dev.weft.runtime.policy.PolicySpec;
+import dev.weft.runtime.policy.SessionSettings;
 import dev.weft.safety.SupervisorState;
 import java.lang.management.ManagementFactory;
 import java.nio.file.Files;
@@ -16,7 +18,7 @@ import org.junit.jupiter.api.io.TempDir;
 
 /**
  * Invariant 3: the steady-state tick allocates nothing. The loop's ticks run on this test's
- * thread with an ONNX policy on a real inference worker thread and the telemetry recorder
+ * thread with an ONNX policy (a state input and a history grid) on a real inference worker thread and the telemetry recorder
  * running; the thread's allocated-byte counter is read before and after 100,000 ticks.
  *
  * <p>A window of 100,000 ticks is measured up to three times. An allocation of the tick itself
@@ -37,9 +39,15 @@ class SteadyStateAllocationTest {
     @Test
     void hundredThousandTicksAllocateNothing() throws Exception {
         int joints = 6;
-        Path model = Files.write(dir.resolve("policy.onnx"), PolicyModels.chunkPolicy(joints, 32, 16, joints, 3).bytes());
-        OnnxPolicy policy = OnnxPolicy.load(PolicySpec.singleInput(model, joints, "obs",
-                new OutputSpec("actions", ChunkLayout.BATCH_STEPS_VALUES, 0, 0)));
+        // the current state and a history grid (linear between samples): the loop keeps samples
+        // per tick and gathers the grid for every request, on the measured thread
+        Path model = Files.write(dir.resolve("policy.onnx"),
+                PolicyModels.stateAndHistoryPolicy(joints, 3, 32, 16, joints, 3).bytes());
+        java.util.Map<String, InputBinding> inputs = new java.util.LinkedHashMap<>();
+        inputs.put("state", new InputBinding.Observation());
+        inputs.put("history", new InputBinding.History(3, 5_000_000L, false, true));
+        OnnxPolicy policy = OnnxPolicy.load(new PolicySpec(model, joints, inputs,
+                new OutputSpec("actions", ChunkLayout.BATCH_STEPS_VALUES, 0, 0), SessionSettings.DEFAULTS));
         LoopFixture f = new LoopFixture();
         f.joints = joints;
         f.range = 3.0;
