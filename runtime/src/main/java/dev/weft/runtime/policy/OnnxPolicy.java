@@ -52,12 +52,14 @@ public final class OnnxPolicy implements Policy {
     private final List<InputBinding.History> histories;
     /** The request for a call made with an observation alone (no stream of samples behind it). */
     private final PolicyInput direct;
+    private final Conversions conversions;
     private boolean closed;
 
     private OnnxPolicy(ModelSignature signature, OrtSession session, OrtSession.SessionOptions options, int observationSize,
                        int chunkLength, int actionSize, Bound[] bound, OnnxTensor outputTensor, String outputName,
-                       ChunkLayout layout, long[] outputShape) {
+                       ChunkLayout layout, long[] outputShape, Conversions conversions) {
         this.signature = signature;
+        this.conversions = conversions;
         this.session = session;
         this.options = options;
         this.observationSize = observationSize;
@@ -111,18 +113,20 @@ public final class OnnxPolicy implements Policy {
             List<Problem> problems = new ArrayList<>();
             List<Plan> plans = planInputs(spec, sig, problems);
             OutputPlan out = planOutput(spec, sig, problems);
+            Conversions conversions = out == null ? null
+                    : Conversions.plan(spec, session.getMetadata().getCustomMetadata(), out.name, out.d, problems);
             if (!problems.isEmpty()) {
                 throw new BadInputException(problems);
             }
             Bound[] bound = new Bound[plans.size()];
             for (int i = 0; i < bound.length; i++) {
-                bound[i] = Bound.create(env, plans.get(i), spec.observationSize());
+                bound[i] = Bound.create(env, plans.get(i), spec.observationSize(), conversions.observation());
                 opened.add(bound[i].tensor);
             }
             OnnxTensor outTensor = allocate(env, out.type, out.shape);
             opened.add(outTensor);
             OnnxPolicy p = new OnnxPolicy(sig, session, options, spec.observationSize(), out.k, out.d, bound, outTensor,
-                    out.name, spec.output().layout(), out.shape);
+                    out.name, spec.output().layout(), out.shape, conversions);
             p.warmUp(spec.session().warmupRuns(), file);
             return p;
         } catch (BadInputException e) {
@@ -174,6 +178,21 @@ public final class OnnxPolicy implements Policy {
         return m;
     }
 
+    /** The observation values' scale, as resolved from the configuration or the model's metadata. */
+    public ValueScale observationScale() {
+        return conversions.observation();
+    }
+
+    /** The action values' scale, as resolved from the configuration or the model's metadata. */
+    public ValueScale actionScale() {
+        return conversions.actions();
+    }
+
+    /** What the model's action values mean; the chunks {@link #infer} gives are always absolute. */
+    public ActionRepresentation actionRepresentation() {
+        return conversions.representation();
+    }
+
     /** The concrete output shape. */
     public long[] outputShape() {
         return outputShape.clone();
@@ -216,6 +235,7 @@ public final class OnnxPolicy implements Policy {
                     chunk[i] = outputDoubles.get(i);
                 }
             }
+            conversions.toTargets(input.observation(), chunk, chunkLength, actionSize);
         } catch (OrtException e) {
             throw new IllegalStateException("ONNX Runtime failed: " + e.getMessage(), e);
         }
@@ -576,12 +596,15 @@ public final class OnnxPolicy implements Policy {
         final LongBuffer longs;
         final int count;
         final int observationSize;
+        final ValueScale scale;
         SplittableRandom random;
         /** Which of the request's history grids this input reads; −1 for other sources. */
         int historyIndex = -1;
 
-        private Bound(String name, InputBinding binding, long[] shape, OnnxTensor tensor, int count, int observationSize) {
+        private Bound(String name, InputBinding binding, long[] shape, OnnxTensor tensor, int count, int observationSize,
+                      ValueScale scale) {
             this.name = name;
+            this.scale = scale;
             this.binding = binding;
             this.shape = shape;
             this.tensor = tensor;
@@ -600,9 +623,9 @@ public final class OnnxPolicy implements Policy {
             }
         }
 
-        static Bound create(OrtEnvironment env, Plan p, int observationSize) throws OrtException {
+        static Bound create(OrtEnvironment env, Plan p, int observationSize, ValueScale scale) throws OrtException {
             OnnxTensor t = allocate(env, p.element(), p.shape());
-            return new Bound(p.name(), p.binding(), p.shape(), t, (int) elements(p.shape()), observationSize);
+            return new Bound(p.name(), p.binding(), p.shape(), t, (int) elements(p.shape()), observationSize, scale);
         }
 
         void restart() {
@@ -617,13 +640,17 @@ public final class OnnxPolicy implements Policy {
                 case OBSERVATION -> {
                     double[] observation = input.observation();
                     for (int i = 0; i < count; i++) {
-                        put(i, observation[i]);
+                        put(i, scale.normalise(i, observation[i]));
                     }
                 }
                 case HISTORY -> {
+                    // grid points one after another, each observationSize values: value i of a point
+                    // is normalised as observation value i
                     double[] h = input.history(historyIndex);
-                    for (int i = 0; i < count; i++) {
-                        put(i, h[i]);
+                    for (int at = 0; at < count; at += observationSize) {
+                        for (int i = 0; i < observationSize; i++) {
+                            put(at + i, scale.normalise(i, h[at + i]));
+                        }
                     }
                 }
                 case NOISE -> {

@@ -14,18 +14,25 @@ import java.util.Map;
  * @param inputs model input name → its source, in declaration order
  * @param output the chunk output
  * @param session ONNX Runtime options
+ * @param normalisation where the observation and action scales come from
  */
 public record PolicySpec(Path model, int observationSize, Map<String, InputBinding> inputs, OutputSpec output,
-                         SessionSettings session) {
+                         SessionSettings session, NormalisationSpec normalisation) {
 
     public PolicySpec {
-        if (model == null || output == null || session == null || inputs == null) {
-            throw new IllegalArgumentException("model, inputs, output and session must be given");
+        if (model == null || output == null || session == null || inputs == null || normalisation == null) {
+            throw new IllegalArgumentException("model, inputs, output, session and normalisation must be given");
         }
         if (observationSize < 1) {
             throw new IllegalArgumentException("observation size must be >= 1, got " + observationSize);
         }
         inputs = Collections.unmodifiableMap(new LinkedHashMap<>(inputs));
+    }
+
+    /** Scales from the model's metadata ({@link NormalisationSpec#FROM_MODEL}). */
+    public PolicySpec(Path model, int observationSize, Map<String, InputBinding> inputs, OutputSpec output,
+                      SessionSettings session) {
+        this(model, observationSize, inputs, output, session, NormalisationSpec.FROM_MODEL);
     }
 
     /** The common case: one input named {@code input} fed the observation. */
@@ -35,6 +42,10 @@ public record PolicySpec(Path model, int observationSize, Map<String, InputBindi
     }
 
     public PolicySpec withSession(SessionSettings s) {
-        return new PolicySpec(model, observationSize, inputs, output, s);
+        return new PolicySpec(model, observationSize, inputs, output, s, normalisation);
+    }
+
+    public PolicySpec withNormalisation(NormalisationSpec n) {
+        return new PolicySpec(model, observationSize, inputs, output, session, n);
     }
 }
