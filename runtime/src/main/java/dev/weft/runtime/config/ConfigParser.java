@@ -4,8 +4,10 @@ import com.fasterxml.jackson.databind.JsonNode;
 import dev.weft.filters.Interpolation;
 import dev.weft.runtime.BadInputException;
 import dev.weft.runtime.config.TreeReader.Section;
+import dev.weft.runtime.policy.ActionRepresentation;
 import dev.weft.runtime.policy.ChunkLayout;
 import dev.weft.runtime.policy.InputBinding;
+import dev.weft.runtime.policy.NormalisationSpec;
 import dev.weft.runtime.policy.OutputSpec;
 import dev.weft.runtime.policy.PolicySpec;
 import dev.weft.runtime.policy.SessionSettings;
@@ -242,12 +244,14 @@ final class ConfigParser {
             in.done();
         }
         OutputSpec output = output(s.section("output", true));
+        NormalisationSpec normalisation = new NormalisationSection(r).read(s.section("normalisation", false),
+                observationSize, output == null || output.actionSize() == 0 ? null : output.actionSize());
         SessionSettings session = session(s.section("session", false));
         s.done();
         if (r.count() != before) {
             return null;
         }
-        return new PolicySpec(model, observationSize, inputs, output, session);
+        return new PolicySpec(model, observationSize, inputs, output, session, normalisation);
     }
 
     private InputBinding binding(Section b) {
@@ -330,12 +334,18 @@ final class ConfigParser {
             o.problem("action_size", "must equal the number of joints in robot.joints (" + jointCount
                     + "), got " + d);
         }
+        ActionRepresentation actions = o.choice("actions", ActionRepresentation.values(), ActionRepresentation::label,
+                ActionRepresentation.ABSOLUTE);
+        int actionSize = d != null ? d : jointCount != null ? jointCount : 0;
+        if (actions != null && actions.needsJointState() && observationSize != null && observationSize < actionSize) {
+            o.problem("actions", actions.label() + " adds the joint positions, the first D = " + actionSize
+                    + " observation values, but policy.observation_size is " + observationSize);
+        }
         o.done();
         if (r.count() != before) {
             return null;
         }
-        int actionSize = d != null ? d : jointCount != null ? jointCount : 0;
-        return new OutputSpec(name, layout, k, actionSize);
+        return new OutputSpec(name, layout, k, actionSize, actions);
     }
 
     private SessionSettings session(Section s) {
