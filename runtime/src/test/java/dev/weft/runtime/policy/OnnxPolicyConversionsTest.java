@@ -22,10 +22,10 @@ import org.junit.jupiter.api.io.TempDir;
 
 /**
  * The value conversions around an ONNX model, on real models run by ONNX Runtime: the action
- * representations and the de-normalisation against hand computations, the observation
- * normalisation against hand computations and against models whose own graph normalises
- * (ONNX Runtime's Sub, Div, Mul and Add operators as the outside reference), the metadata keys,
- * and the refusals.
+ * representations and the de-normalisation against hand computations and against models whose
+ * own graph converts (ONNX Runtime's Mul, Add, Slice and CumSum operators as the outside
+ * reference), the observation normalisation against hand computations and against models whose
+ * own graph normalises (Sub and Div), the metadata keys, and the refusals.
  */
 class OnnxPolicyConversionsTest {
 
@@ -300,6 +300,47 @@ class OnnxPolicyConversionsTest {
                 ValueScale.minMax(doubles(actMin), doubles(actMax), "test"));
         assertSameChunks(spec(insideModel, obs, ActionRepresentation.ABSOLUTE, NormalisationSpec.FROM_MODEL),
                 spec(bareModel, obs, ActionRepresentation.ABSOLUTE, weftSide), obs, 20.0);
+    }
+
+    /**
+     * The representations against ONNX Runtime's own operators: a graph that de-normalises its
+     * MLP's output (Mul, Add), then adds the joint state taken from its own input (Slice, Add), or
+     * first sums the offsets along the chunk (CumSum over axis 1) for offsets from the previous
+     * action, gives absolute targets itself; weft converting the bare MLP's output must agree.
+     */
+    @Test
+    void representationsEqualTheConversionInsideTheGraph() throws Exception {
+        int obs = 5;
+        int k = 6;
+        int d = 3;
+        float[] actMean = {0.02f, -0.01f, 0f};
+        float[] actStd = {0.05f, 0.1f, 0.2f};
+        PolicyModels.Mlp mlp = PolicyModels.Mlp.random(obs, 12, k * d, 23);
+        for (ActionRepresentation rep : List.of(ActionRepresentation.FROM_STATE, ActionRepresentation.FROM_PREVIOUS)) {
+            OnnxGraph inside = OnnxGraph.named("targets_inside");
+            String x = inside.input("obs", Element.FLOAT, 1, obs);
+            String a = inside.reshape(mlp(inside, x, mlp), 1, k, d);
+            a = inside.add(inside.mul(a, inside.floats("act_std", actStd, d)), inside.floats("act_mean", actMean, d));
+            if (rep == ActionRepresentation.FROM_PREVIOUS) {
+                a = inside.op("CumSum", a, inside.longs("axis", new long[] {1}));
+            }
+            String state = inside.op("Slice", x, inside.longs("starts", new long[] {0}, 1),
+                    inside.longs("ends", new long[] {d}, 1), inside.longs("axes", new long[] {1}, 1));
+            inside.opNamed("Add", "actions", a, state);
+            inside.output("actions", Element.FLOAT, 1, k, d);
+            Path insideModel = inside.write(dir.resolve("targets_" + rep.label() + ".onnx"));
+
+            OnnxGraph bare = OnnxGraph.named("bare");
+            String xb = bare.input("obs", Element.FLOAT, 1, obs);
+            bare.reshapeNamed("actions", mlp(bare, xb, mlp), 1, k, d);
+            bare.output("actions", Element.FLOAT, 1, k, d);
+            Path bareModel = bare.write(dir.resolve("bare_" + rep.label() + ".onnx"));
+
+            NormalisationSpec weftSide = new NormalisationSpec(ValueScale.NONE,
+                    ValueScale.meanStd(doubles(actMean), doubles(actStd), "test"));
+            assertSameChunks(spec(insideModel, obs, ActionRepresentation.ABSOLUTE, NormalisationSpec.FROM_MODEL),
+                    spec(bareModel, obs, rep, weftSide), obs, 2.0);
+        }
     }
 
     /** Raw observations spread over ±{@code spread} around zero through both policies: the same chunks. */
