@@ -181,6 +181,7 @@ public final class ValueScale {
         }
     }
 
+    /** Equal when the method and both lists are equal; where the statistics came from is not compared. */
     @Override
     public boolean equals(Object o) {
         return o instanceof ValueScale s && method == s.method && Arrays.equals(first, s.first)
