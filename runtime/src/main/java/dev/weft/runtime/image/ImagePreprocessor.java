@@ -179,6 +179,8 @@ public final class ImagePreprocessor {
         this.s = settings;
         check(s.height() >= 1 && s.width() >= 1, "the frame must be at least 1 × 1, got " + s.height() + " × " + s.width());
         check(s.channels() == 1 || s.channels() == 3, "channels must be 1 or 3, got " + s.channels());
+        check((long) s.height() * s.width() * s.channels() <= Integer.MAX_VALUE, "a frame of " + s.height() + " × "
+                + s.width() + " × " + s.channels() + " is over 2 GiB");
         check(s.cropTop() >= 0 && s.cropLeft() >= 0 && s.cropHeight() >= 1 && s.cropWidth() >= 1
                 && (long) s.cropTop() + s.cropHeight() <= s.height() && (long) s.cropLeft() + s.cropWidth() <= s.width(),
                 "the crop window (top " + s.cropTop() + ", left " + s.cropLeft() + ", " + s.cropHeight() + " × "
@@ -303,6 +305,7 @@ public final class ImagePreprocessor {
         if (s.element() != Element.FLOAT32) {
             throw new IllegalStateException("this preprocessing writes a uint8 tensor");
         }
+        checkSizes(frame, frameStart, out.capacity());
         int h = s.outHeight();
         int w = s.outWidth();
         for (int y = 0; y < h; y++) {
@@ -320,6 +323,7 @@ public final class ImagePreprocessor {
         if (s.element() != Element.UINT8) {
             throw new IllegalStateException("this preprocessing writes a float32 tensor");
         }
+        checkSizes(frame, frameStart, out.capacity());
         int h = s.outHeight();
         int w = s.outWidth();
         for (int y = 0; y < h; y++) {
@@ -330,6 +334,18 @@ public final class ImagePreprocessor {
                     out.put(at(y, x, c), (byte) Math.max(0, Math.min(255, r)));
                 }
             }
+        }
+    }
+
+    /** Before anything is written: the frame and the tensor buffer are large enough. */
+    private void checkSizes(ByteBuffer frame, int frameStart, int outCapacity) {
+        if (frameStart < 0 || (long) frameStart + frameBytes() > frame.capacity()) {
+            throw new IllegalArgumentException("the frame buffer holds " + frame.capacity() + " bytes; a frame of "
+                    + frameBytes() + " bytes from index " + frameStart + " does not fit");
+        }
+        if (outCapacity < outValues) {
+            throw new IllegalArgumentException("the tensor buffer holds " + outCapacity + " values, the tensor "
+                    + outValues);
         }
     }
 

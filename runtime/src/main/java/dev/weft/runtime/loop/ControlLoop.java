@@ -142,8 +142,10 @@ public final class ControlLoop implements AutoCloseable {
     private volatile int autoArmResult = Integer.MIN_VALUE;
     /** The next tick at which a query is due ({@link LoopSettings#queryEveryTicks()} > 0). */
     private long nextQueryTick;
-    /** A query fell due and has not been issued yet (the worker was busy, or no usable observation). */
+    /** A query fell due and has not been issued yet (the worker was busy, or no new usable observation). */
     private boolean queryPending;
+    /** The time stamp of the last observation queried; a query waits for a newer one. */
+    private long lastQueriedStamp = Long.MIN_VALUE;
     /** The request handed to the worker, refilled in place. */
     private final PolicyInput query;
     /** The observation stream's samples, kept per tick for the policy's history grids; null without grids. */
@@ -530,52 +532,13 @@ public final class ControlLoop implements AutoCloseable {
             history.keep(obsTime, observation);
         }
 
-        // 2 inference request on schedule. With a fixed schedule a query falls due on its grid of
-        // ticks (a due tick that was skipped falls due at the next tick that runs); a due query the
-        // busy worker cannot take is counted as deferred and issued as soon as the worker is free,
-        // while the grid stays where it is. The request's origin is its observation's time.
-        int every = settings.queryEveryTicks();
-        try {
-            if (every > 0) {
-                if (n >= nextQueryTick) {
-                    nextQueryTick = (n / every + 1) * every;
-                    queryPending = true;
-                    if (!worker.idle()) {
-                        deferredQueries.lazySet(deferredQueries.get() + 1);
-                    }
-                }
-            } else {
-                queryPending = true;
-            }
-            if (queryPending && usable && worker.idle()) {
-                long origin = originTick(obsTime, n);
-                if (origin >= 0) {
-                    System.arraycopy(observation, 0, query.observation(), 0, observation.length);
-                    query.stamp(origin, obsTime);
-                    if (history != null) {
-                        for (int g = 0; g < query.grids().size(); g++) {
-                            history.gather(query.grids().get(g), obsTime, query.history(g));
-                        }
-                    }
-                    worker.request(query, n);
-                    queryPending = false;
-                    if (requestedAtNanos < 0) {
-                        requestedAtNanos = start;
-                    }
-                }
-            }
-        } catch (Throwable t) {
-            fault(WatchdogCondition.TICK_EXCEPTION, "inference request", t);
-        }
-
-        // 3 finished chunks
+        // 3 finished chunks, drained before the request so that a worker that finished is free
+        // for it at this tick; 2 the request on schedule; 3 again, for a result ready at once
         nonFiniteThisTick = false;
         sink.now = n;
-        try {
-            worker.drain(n, sink);
-        } catch (Throwable t) {
-            fault(WatchdogCondition.TICK_EXCEPTION, "inference drain", t);
-        }
+        drain(n);
+        request(n, start, usable, obsTime);
+        drain(n);
 
         // 4 the plan's state at this tick, 5 smoothing
         boolean planned;
@@ -881,6 +844,62 @@ public final class ControlLoop implements AutoCloseable {
             } else if (r >= 0) {
                 newestOrigin = Math.max(newestOrigin, originTick);
             }
+        }
+    }
+
+    /**
+     * Step 2. With a fixed schedule a query falls due on its grid of ticks (a due tick that was
+     * skipped falls due at the next tick that runs); a due query the busy worker cannot take is
+     * counted as deferred and issued as soon as the worker is free, while the grid stays where it
+     * is (due ticks the busy worker misses are each counted and merged into one request). With either
+     * schedule a query is issued only for an observation newer than the last one queried, so a
+     * stream slower than the queries is not queried (and ensembled) twice. The request's origin is
+     * its observation's time.
+     */
+    private void request(long n, long start, boolean usable, long obsTime) {
+        int every = settings.queryEveryTicks();
+        try {
+            if (every > 0) {
+                if (n >= nextQueryTick) {
+                    nextQueryTick = (n / every + 1) * every;
+                    if (!worker.idle()) {
+                        deferredQueries.lazySet(deferredQueries.get() + 1);
+                    }
+                    queryPending = true;
+                }
+            } else {
+                queryPending = true;
+            }
+            if (queryPending && usable && obsTime > lastQueriedStamp && worker.idle()) {
+                long origin = originTick(obsTime, n);
+                if (origin >= 0) {
+                    System.arraycopy(observation, 0, query.observation(), 0, observation.length);
+                    query.stamp(origin, obsTime);
+                    if (history != null) {
+                        for (int g = 0; g < query.grids().size(); g++) {
+                            InputBinding.History grid = query.grids().get(g);
+                            history.gather(grid, obsTime, Math.min(grid.spacingNanos() / 2, period), query.history(g));
+                        }
+                    }
+                    worker.request(query, n);
+                    queryPending = false;
+                    lastQueriedStamp = obsTime;
+                    if (requestedAtNanos < 0) {
+                        requestedAtNanos = start;
+                    }
+                }
+            }
+        } catch (Throwable t) {
+            fault(WatchdogCondition.TICK_EXCEPTION, "inference request", t);
+        }
+    }
+
+    /** Step 3: every finished chunk into the sink (never blocks). */
+    private void drain(long n) {
+        try {
+            worker.drain(n, sink);
+        } catch (Throwable t) {
+            fault(WatchdogCondition.TICK_EXCEPTION, "inference drain", t);
         }
     }
 

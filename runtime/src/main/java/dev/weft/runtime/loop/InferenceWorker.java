@@ -126,7 +126,10 @@ public final class InferenceWorker implements Inference {
     /** True when the worker is not computing and no request is waiting. */
     @Override
     public boolean idle() {
-        return !computing && (middle.get() & FRESH) == 0;
+        // FRESH first: the worker sets computing before it clears FRESH, so a cleared FRESH read
+        // here makes its computing visible; read the other way round, a request taken between
+        // the two reads would look idle
+        return (middle.get() & FRESH) == 0 && !computing;
     }
 
     /**

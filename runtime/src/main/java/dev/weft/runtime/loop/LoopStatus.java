@@ -15,8 +15,9 @@ import dev.weft.runtime.telemetry.RowCounts;
  * @param staleSteps chunk steps dropped because their time had passed
  * @param inferences inferences finished (any status)
  * @param inferenceFailures inferences that threw or returned non-finite values
- * @param deferredQueries due queries (fixed schedule) the busy worker could not take at their tick;
- *     each was issued once the worker was free, the schedule staying on its grid
+ * @param deferredQueries due ticks (fixed schedule) at which the busy worker could not take the
+ *     query; the query waits for the first free tick (one request for the due ticks it missed),
+ *     the schedule staying on its grid
  * @param portDropped frames the port dropped
  * @param telemetry what became of the telemetry rows (handed over, written, lost, pending), or null
  *     when the run records no telemetry

@@ -72,9 +72,10 @@ public final class ModelledLatencyInference implements Inference {
                     break;
                 }
             }
-        } catch (RuntimeException e) {
+        } catch (Throwable t) {
+            // as the real worker does: any failure of the policy is a failed result, never lost
             status = ChunkSink.FAILED;
-            lastFailure = e.toString();
+            lastFailure = t.toString();
         }
         inFlight = true;
         readyTick = startTick + latencyTicks;

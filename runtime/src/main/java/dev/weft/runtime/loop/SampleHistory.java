@@ -14,6 +14,9 @@ import dev.weft.runtime.policy.InputBinding;
  * grid's oldest point when the query's observation is at most {@code lateness} old (see
  * {@link #capacityFor}).
  *
+ * <p>A sample is kept only when its stamp is newer than the newest kept: a source must stamp
+ * new values with a new time.
+ *
  * <p>Threading: the control loop thread only; allocation-free after construction.
  */
 final class SampleHistory {
@@ -76,25 +79,22 @@ final class SampleHistory {
         return true;
     }
 
-    /** Forgets every sample. */
-    void clear() {
-        head = 0;
-        count = 0;
-    }
-
     /**
      * Writes {@code grid} sampled for observation time {@code t} into {@code out}, oldest point
      * first, {@code size} values per point. Nothing is written when no sample is kept.
      *
+     * @param lateNanos how late a sample's stamp may be and still stand for a grid point (latest
+     *     mode): a stream whose period equals the grid's spacing stamps its samples with some
+     *     jitter, and a sample stamped a little after its grid point is still that point's sample
      * @return false when no sample is kept
      */
-    boolean gather(InputBinding.History grid, long t, double[] out) {
+    boolean gather(InputBinding.History grid, long t, long lateNanos, double[] out) {
         if (count == 0) {
             return false;
         }
         for (int i = 0; i < grid.depth(); i++) {
             long p = grid.pointTime(t, i);
-            int k = latestAtOrBefore(p);
+            int k = latestAtOrBefore(grid.linear() ? p : Math.min(t, p + lateNanos));
             int o = i * size;
             if (k < 0) {
                 // before the first sample kept: that sample stands for the time before it

@@ -81,8 +81,17 @@ public final class PolicyInput {
         }
     }
 
-    /** Copies every value and stamp of {@code other}, which must be laid out alike. */
+    /**
+     * Copies every value and stamp of {@code other}, which must be laid out alike.
+     *
+     * @throws IllegalArgumentException when the layouts differ (a programming error)
+     */
     public void copyFrom(PolicyInput other) {
+        if (other.observation.length != observation.length || other.histories.length != histories.length) {
+            throw new IllegalArgumentException("a request of " + other.observation.length + " values and "
+                    + other.histories.length + " history grids cannot fill one of " + observation.length + " and "
+                    + histories.length);
+        }
         System.arraycopy(other.observation, 0, observation, 0, observation.length);
         for (int i = 0; i < histories.length; i++) {
             System.arraycopy(other.histories[i], 0, histories[i], 0, histories[i].length);

@@ -29,9 +29,10 @@ import java.nio.file.StandardOpenOption;
  *
  * <p>The writer puts frame {@code k} (from 1) into slot {@code k mod slots}: sequence
  * {@code 2k − 1} (odd: being written), then time stamp, number and pixels, then sequence
- * {@code 2k} (even: finished), then the header's latest frame number {@code k}; each store
- * ordered after the one before (release stores, or a machine that keeps stores in order, as
- * x86-64 does). The reader takes the latest frame number, reads the slot's sequence, copies the
+ * {@code 2k} (even: finished), then the header's latest frame number {@code k}. The pixels must
+ * not become visible before the odd sequence: a store-store fence after it (C11
+ * {@code atomic_thread_fence(memory_order_release)}; on aarch64 {@code dmb ishst}), then release
+ * stores of the even sequence and of the latest number. x86-64 keeps stores in order by itself. The reader takes the latest frame number, reads the slot's sequence, copies the
  * frame, and reads the sequence again: the copy counts only when both readings are {@code 2k}.
  * Otherwise the writer was in the slot (a torn read, counted) and the reader tries again.
  *
@@ -104,8 +105,11 @@ public final class SharedFrameReader implements AutoCloseable {
             if (size < HEADER_BYTES) {
                 throw new BadInputException(where, "is " + size + " bytes, shorter than the 64-byte header");
             }
-            MappedByteBuffer m = ch.map(FileChannel.MapMode.READ_ONLY, 0, size);
-            m.order(ByteOrder.LITTLE_ENDIAN);
+            // the header first, read rather than mapped: nothing is mapped before it is checked
+            ByteBuffer m = ByteBuffer.allocate(HEADER_BYTES).order(ByteOrder.LITTLE_ENDIAN);
+            while (m.hasRemaining() && ch.read(m, m.position()) >= 0) {
+                // read until the header is in
+            }
             byte[] magic = new byte[8];
             m.get(0, magic);
             if (!MAGIC.equals(new String(magic, StandardCharsets.ISO_8859_1))) {
@@ -128,22 +132,32 @@ public final class SharedFrameReader implements AutoCloseable {
                 throw new BadInputException(where + " (header, bytes 16-27)", "frames are " + h + " × " + w + " × " + c
                         + ", the stream is configured for " + height + " × " + width + " × " + channels);
             }
+            if (c != 1 && c != 3) {
+                throw new BadInputException(where + " (header, byte 24)", "channels must be 1 or 3, got " + c);
+            }
             if (format < RGB8 || format > GREY8 || (format == GREY8) != (channels == 1)) {
                 throw new BadInputException(where + " (header, byte 28)", "pixel format " + format
                         + " does not fit " + channels + " channels (0 rgb8, 1 bgr8, 2 grey8)");
             }
             long frame = h * w * c;
-            if (stride < SLOT_HEADER_BYTES + frame || stride % 8 != 0) {
+            if (stride < SLOT_HEADER_BYTES + frame || stride % 8 != 0 || stride > Integer.MAX_VALUE) {
                 throw new BadInputException(where + " (header, byte 32)", "slot stride " + stride
-                        + " must be a multiple of 8 holding the 64-byte slot header and " + frame + " frame bytes");
+                        + " must be a multiple of 8 holding the 64-byte slot header and " + frame
+                        + " frame bytes, and under 2 GiB");
             }
             long need = HEADER_BYTES + slots * stride;
+            if (need > Integer.MAX_VALUE) {
+                throw new BadInputException(where + " (header, bytes 12 and 32)", slots + " slots of " + stride
+                        + " bytes are " + need + " bytes; a frame file must stay under 2 GiB");
+            }
             if (size < need) {
                 throw new BadInputException(where, "is " + size + " bytes; " + slots + " slots of " + stride
                         + " bytes need " + need);
             }
-            return new SharedFrameReader(file, ch, m, (int) slots, height, width, channels, format, stride);
-        } catch (IOException e) {
+            MappedByteBuffer map = ch.map(FileChannel.MapMode.READ_ONLY, 0, need);
+            map.order(ByteOrder.LITTLE_ENDIAN);
+            return new SharedFrameReader(file, ch, map, (int) slots, height, width, channels, format, stride);
+        } catch (IOException | RuntimeException e) {
             closeQuietly(ch);
             throw new BadInputException(where, "could not map the frame file: " + e.getMessage());
         } catch (BadInputException e) {

@@ -193,6 +193,23 @@ class ImagePreprocessorTest {
     }
 
     @Test
+    void aHalfRoundsUpInAUint8Tensor() {
+        // area: [1, 2] to one pixel is 1.5, [2, 2] is 2 and [0, 1] is 0.5: rounded half up to 2, 2, 1
+        ByteBuffer frame = ByteBuffer.allocate(6);
+        frame.put(0, (byte) 1).put(1, (byte) 2).put(2, (byte) 2).put(3, (byte) 2).put(4, (byte) 0).put(5, (byte) 1);
+        ImagePreprocessor p = new ImagePreprocessor(new Settings(1, 6, 1, false, 0, 0, 1, 6, 1, 3, Resize.AREA, false,
+                Layout.NCHW, false, new double[] {0}, new double[] {1}, ImagePreprocessor.Element.UINT8));
+        ByteBuffer out = ByteBuffer.allocate(3);
+        p.apply(frame, 0, out);
+        assertThat(new int[] {out.get(0), out.get(1), out.get(2)}).containsExactly(2, 2, 1);
+        // a frame or tensor buffer too small is refused before anything is written
+        assertThatThrownBy(() -> p.apply(ByteBuffer.allocate(5), 0, out))
+                .hasMessage("the frame buffer holds 5 bytes; a frame of 6 bytes from index 0 does not fit");
+        assertThatThrownBy(() -> p.apply(frame, 0, ByteBuffer.allocate(2)))
+                .hasMessage("the tensor buffer holds 2 values, the tensor 3");
+    }
+
+    @Test
     void settingsOutOfRangeAreRefusedNamingTheSetting() {
         Settings s = Settings.plain(480, 640, 224, 224);
         assertThatThrownBy(() -> new ImagePreprocessor(s.withCrop(300, 0, 200, 640)))

@@ -19,11 +19,11 @@ import org.junit.jupiter.api.Test;
  */
 class HistoryGridTest {
 
-    /** Recording: 100 Hz, 3 values per sample; the loop runs at 500 Hz. */
-    private static final double SAMPLE = 0.01;
-    private static final int SAMPLES = 200;
+    /** Recording: 250 Hz, 3 values per sample; the loop runs at 500 Hz (two ticks per sample). */
+    private static final double SAMPLE = 0.004;
+    private static final int SAMPLES = 500;
     private static final long MS = 1_000_000L;
-    /** Three previous observations, 20 ms (two samples) apart, without the current one. */
+    /** Three previous observations, 20 ms (five samples) apart, without the current one. */
     private static final InputBinding.History GRID = new InputBinding.History(3, 20 * MS, false, false);
 
     private static Recording recording() {
@@ -43,6 +43,7 @@ class HistoryGridTest {
     static final class Witness implements Policy {
         final Map<Long, double[]> historyAt = new TreeMap<>();
         final Map<Long, Long> originAt = new TreeMap<>();
+        int calls;
 
         @Override
         public int observationSize() {
@@ -66,6 +67,7 @@ class HistoryGridTest {
 
         @Override
         public void infer(PolicyInput input, double[] chunk) {
+            calls++;
             historyAt.put(input.timeNanos(), input.history(0).clone());
             originAt.put(input.timeNanos(), input.tick());
             infer(input.observation(), input.tick(), chunk);
@@ -109,21 +111,25 @@ class HistoryGridTest {
         long t0 = 1_000_000_000L;
         for (Witness w : List.of(w0, w2, w5)) {
             assertThat(w.historyAt).hasSizeGreaterThan(30);
+            // queried whenever the policy is free, but each observation once: the 250 Hz stream is
+            // slower than the 500 Hz loop, and a second query of the same sample would weigh it twice
+            assertThat(w.calls).isEqualTo(w.historyAt.size());
             for (Map.Entry<Long, double[]> e : w.historyAt.entrySet()) {
-                // the observation's time is a sample's time; the grid 20, 40, 60 ms before it lands on
-                // samples i-6, i-4, i-2 (clamped to the first sample): worked out here by hand, not by
-                // the loop's sample ring
-                int i = Math.toIntExact((e.getKey() - t0) / (10 * MS));
-                assertThat(e.getKey() - t0).isEqualTo(i * 10 * MS);
+                // the observation's time is a sample's time; the grid 60, 40, 20 ms before it lands on
+                // samples i-15, i-10, i-5 (clamped to the first sample): worked out here by hand, not
+                // by the loop's sample ring
+                int i = Math.toIntExact((e.getKey() - t0) / (4 * MS));
+                assertThat(e.getKey() - t0).isEqualTo(i * 4 * MS);
                 double[] want = new double[9];
                 for (int slot = 0; slot < 3; slot++) {
-                    r.observation(Math.max(0, i - 6 + 2 * slot), sample);
+                    r.observation(Math.max(0, i - 15 + 5 * slot), sample);
                     System.arraycopy(sample, 0, want, slot * 3, 3);
                 }
                 assertThat(e.getValue()).as("history at sample %d", i).containsExactly(want);
-                // the chunk's origin is the observation's tick (5 control ticks per sample), not the
-                // tick the query was made at
-                assertThat(w.originAt.get(e.getKey())).as("origin of sample %d", i).isEqualTo(5L * i);
+                // the chunk's origin is the observation's tick (2 control ticks per sample), not the
+                // tick the query was made at (with 5 ticks of latency the policy is free again at odd
+                // ticks, when the newest sample is a tick old)
+                assertThat(w.originAt.get(e.getKey())).as("origin of sample %d", i).isEqualTo(2L * i);
             }
         }
         // the queries happened at different times (the samples queried differ), yet wherever two runs
@@ -147,8 +153,8 @@ class HistoryGridTest {
         LoopFixture f = new LoopFixture();
         f.latencyTicks = 2;
         f.queryEvery = 1;
-        Recording r = recording();
-        f.source = new RecordingSource(r, f.clock);
+        // a source with a new stamp every tick, so that only the busy policy holds a query back
+        f.source = new FixedSource(new double[3], f.clock);
         f.port = new ControlLoopTest.RecordingPort();
         Witness w = new Witness();
         ControlLoop loop = f.build(w);
@@ -156,9 +162,11 @@ class HistoryGridTest {
         for (int n = 0; n < 30; n++) {
             loop.runTick();
         }
-        // a query is due every tick; each one computes for two ticks and is delivered in the third,
-        // so ticks 0, 3, 6, ... issue a query and the two due ticks between them are deferred
-        assertThat(loop.status().deferredQueries()).isEqualTo(20);
-        assertThat(loop.status().inferences()).isEqualTo(10);
+        // a query is due every tick; each takes two ticks and its result is drained before the
+        // tick's request, so the policy takes a query at ticks 0, 2, 4, ... 28 and misses the due
+        // ticks between them, which are counted; the result of tick 28's query is due at tick 30
+        assertThat(w.calls).isEqualTo(15);
+        assertThat(loop.status().deferredQueries()).isEqualTo(15);
+        assertThat(loop.status().inferences()).isEqualTo(14);
     }
 }

@@ -38,8 +38,9 @@ def main(spec_path, out_path):
         x = np.concatenate([state, history.reshape(-1)])
         return (np.tanh(x @ w1 + b1) @ w2 + b2).reshape(K, D)
 
-    # the schedule: a query at every due tick (the policy is free again by then: every > latency)
-    assert every > latency, "this reference models a policy that is free at every due tick"
+    # the schedule: a query at every due tick; a result is collected before the tick's query is
+    # made, so with every >= latency the policy is free again at every due tick
+    assert every >= latency, "this reference models a policy that is free at every due tick"
     chunks = []
     for n in range(0, ticks, every):
         # the k previous samples, one period apart, oldest first; before the first sample, the first
