@@ -118,10 +118,16 @@ public final class ConfiguredRun {
         return b.build();
     }
 
+    /** The model metadata property holding the time between two actions of a chunk, seconds. */
+    public static final String POLICY_STEP_KEY = "weft.policy_step";
+
     /**
-     * Loads the policy and checks it against the robot.
+     * Loads the configured policy and checks it against the configuration: D against the joints,
+     * and the model's {@value #POLICY_STEP_KEY} property, when it has one, against
+     * {@code timing.policy_step}.
      *
-     * @throws BadInputException naming the model's problems, or a D that differs from the joints
+     * @throws BadInputException naming the model's problems, a D that differs from the joints, or
+     *     a policy step that differs from the model's
      */
     public OnnxPolicy loadPolicy() throws BadInputException {
         OnnxPolicy p = OnnxPolicy.load(config.policySpec());
@@ -130,6 +136,28 @@ public final class ConfiguredRun {
             p.close();
             throw new BadInputException("policy.output", "the model's actions have D = " + p.actionSize()
                     + " values, robot.joints lists " + joints + " joints");
+        }
+        String step = p.signature().metadata().properties().get(POLICY_STEP_KEY);
+        if (step != null) {
+            String where = config.policySpec().model() + " metadata '" + POLICY_STEP_KEY + "'";
+            double recorded;
+            try {
+                recorded = Double.parseDouble(step.trim());
+            } catch (NumberFormatException e) {
+                recorded = Double.NaN;
+            }
+            if (!(recorded > 0) || Double.isInfinite(recorded)) {
+                p.close();
+                throw new BadInputException(where, "must be the time between two actions in seconds, a number > 0,"
+                        + " got \"" + (step.length() > 40 ? step.substring(0, 40) + "…" : step) + "\"");
+            }
+            double configured = config.timing().policyStep();
+            if (Math.abs(recorded - configured) > 1e-9 * Math.max(recorded, configured)) {
+                p.close();
+                throw new BadInputException(where, "the model was exported with actions " + recorded
+                        + " s apart, timing.policy_step is " + configured
+                        + " s: its chunks would be played at the wrong speed");
+            }
         }
         return p;
     }
