@@ -92,9 +92,15 @@ final class CheckCommand implements Callable<Integer> {
             TimingConfig t = c.timing();
             out.printf(Locale.ROOT, "configuration  %s: %d joints, control period %s, policy step %s%n", config,
                     c.robot().jointCount(), Units.seconds(t.controlPeriod()), Units.seconds(t.policyStep()));
-            out.printf(Locale.ROOT, "model          %s: K = %d actions of D = %d values (layout %s, output '%s')%n",
-                    c.policy().model(), policy.chunkLength(), policy.actionSize(), policy.layout().label(),
-                    policy.outputName());
+            if (policy.layout() == dev.weft.runtime.policy.ChunkLayout.SINGLE_ACTION) {
+                out.printf(Locale.ROOT, "model          %s: one action of D = %d values, held for %d policy steps"
+                                + " (K = %d; layout %s, output '%s')%n", c.policy().model(), policy.actionSize(),
+                        policy.chunkLength() - 1, policy.chunkLength(), policy.layout().label(), policy.outputName());
+            } else {
+                out.printf(Locale.ROOT, "model          %s: K = %d actions of D = %d values (layout %s, output '%s')%n",
+                        c.policy().model(), policy.chunkLength(), policy.actionSize(), policy.layout().label(),
+                        policy.outputName());
+            }
             if (telemetry != null) {
                 out.printf("telemetry      %s (%s when the run ends)%n", telemetry.file(),
                         Files.exists(telemetry.file()) ? "replaced" : "written");

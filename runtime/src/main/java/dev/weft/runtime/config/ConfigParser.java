@@ -322,10 +322,15 @@ final class ConfigParser {
         String name = o.has("name") ? o.text("name", null) : null;
         ChunkLayout layout = o.choice("layout", ChunkLayout.values(), ChunkLayout::label, null);
         Integer k = o.has("chunk_length") ? o.count("chunk_length", null, 1) : Integer.valueOf(0);
+        Integer hold = o.has("hold_steps") ? o.count("hold_steps", null, 1) : null;
+        if (hold != null && layout != null && layout != ChunkLayout.SINGLE_ACTION) {
+            o.problem("hold_steps", "is for layout 1xD (a single-step actor), the layout is " + layout.label());
+        }
         if (layout == ChunkLayout.SINGLE_ACTION && k != null && k > 1) {
             o.problem("chunk_length", "must be 1 for layout 1xD (one action per call), got " + k);
         } else if (layout == ChunkLayout.SINGLE_ACTION) {
-            chunkLength = 1;
+            // the actor's action is held: the policy gives 1 + hold equal actions
+            chunkLength = 1 + (hold != null ? hold : OutputSpec.DEFAULT_HOLD_STEPS);
         } else if (k != null && k > 0) {
             chunkLength = k;
         }
@@ -345,7 +350,8 @@ final class ConfigParser {
         if (r.count() != before) {
             return null;
         }
-        return new OutputSpec(name, layout, k, actionSize, actions);
+        return new OutputSpec(name, layout, k, actionSize, actions,
+                layout == ChunkLayout.SINGLE_ACTION && hold != null ? hold : 0);
     }
 
     private SessionSettings session(Section s) {

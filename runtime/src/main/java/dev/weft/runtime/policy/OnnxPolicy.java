@@ -39,6 +39,8 @@ public final class OnnxPolicy implements Policy {
     private final OrtSession.SessionOptions options;
     private final int observationSize;
     private final int chunkLength;
+    /** Actions the model gives per call: K, or 1 for a single-step actor whose action is held. */
+    private final int modelSteps;
     private final int actionSize;
     private final Bound[] bound;
     private final Map<String, OnnxTensor> inputs;
@@ -56,14 +58,15 @@ public final class OnnxPolicy implements Policy {
     private boolean closed;
 
     private OnnxPolicy(ModelSignature signature, OrtSession session, OrtSession.SessionOptions options, int observationSize,
-                       int chunkLength, int actionSize, Bound[] bound, OnnxTensor outputTensor, String outputName,
-                       ChunkLayout layout, long[] outputShape, Conversions conversions) {
+                       int modelSteps, int holdSteps, int actionSize, Bound[] bound, OnnxTensor outputTensor,
+                       String outputName, ChunkLayout layout, long[] outputShape, Conversions conversions) {
         this.signature = signature;
         this.conversions = conversions;
         this.session = session;
         this.options = options;
         this.observationSize = observationSize;
-        this.chunkLength = chunkLength;
+        this.modelSteps = modelSteps;
+        this.chunkLength = modelSteps + holdSteps;
         this.actionSize = actionSize;
         this.bound = bound;
         this.outputTensor = outputTensor;
@@ -125,8 +128,9 @@ public final class OnnxPolicy implements Policy {
             }
             OnnxTensor outTensor = allocate(env, out.type, out.shape);
             opened.add(outTensor);
-            OnnxPolicy p = new OnnxPolicy(sig, session, options, spec.observationSize(), out.k, out.d, bound, outTensor,
-                    out.name, spec.output().layout(), out.shape, conversions);
+            OnnxPolicy p = new OnnxPolicy(sig, session, options, spec.observationSize(), out.k,
+                    spec.output().effectiveHoldSteps(), out.d, bound, outTensor, out.name, spec.output().layout(),
+                    out.shape, conversions);
             p.warmUp(spec.session().warmupRuns(), file);
             return p;
         } catch (BadInputException e) {
@@ -144,6 +148,10 @@ public final class OnnxPolicy implements Policy {
         return observationSize;
     }
 
+    /**
+     * K: the actions the policy gives per call. For a single-step actor (layout {@code 1xD}) that
+     * is 1 plus the steps its action is held for: the action, and then the same action again.
+     */
     @Override
     public int chunkLength() {
         return chunkLength;
@@ -225,7 +233,7 @@ public final class OnnxPolicy implements Policy {
             b.fill(input);
         }
         try (OrtSession.Result ignored = session.run(inputs, pinned)) {
-            int n = chunkLength * actionSize;
+            int n = modelSteps * actionSize;
             if (outputFloats != null) {
                 for (int i = 0; i < n; i++) {
                     chunk[i] = outputFloats.get(i);
@@ -235,7 +243,11 @@ public final class OnnxPolicy implements Policy {
                     chunk[i] = outputDoubles.get(i);
                 }
             }
-            conversions.toTargets(input.observation(), chunk, chunkLength, actionSize);
+            conversions.toTargets(input.observation(), chunk, modelSteps, actionSize);
+            // a single-step actor's action, held: the same target for the steps that follow
+            for (int j = modelSteps; j < chunkLength; j++) {
+                System.arraycopy(chunk, 0, chunk, j * actionSize, actionSize);
+            }
         } catch (OrtException e) {
             throw new IllegalStateException("ONNX Runtime failed: " + e.getMessage(), e);
         }

@@ -191,7 +191,8 @@ class DraftCommandTest {
         InspectCommandTest.Run check = weft("check", Files.writeString(dir.resolve("actor-filled.yaml"), filled)
                 .toString(), "--runs", "5");
         assertThat(check.err()).isEmpty();
-        assertThat(check.out()).contains(": K = 1 actions of D = 4 values (layout 1xD, output 'action')");
+        assertThat(check.out()).contains(": one action of D = 4 values, held for 2 policy steps (K = 3; layout 1xD,"
+                + " output 'action')");
     }
 
     @Test

@@ -525,15 +525,19 @@ class WeftConfigTest {
     }
 
     @Test
-    void theSingleActionLayoutIsOneStepLong() {
+    void theSingleActionLayoutIsOneActionHeldForTwoSteps() throws Exception {
         String yaml = replace(VALID, "    layout: 1xKxD\n    chunk_length: 10", "    layout: 1xD\n    chunk_length: 2");
         assertThat(problems(yaml)).containsExactly(
                 "policy.output.chunk_length (line 24): must be 1 for layout 1xD (one action per call), got 2");
-        // K = 1 at 0.01 s: an inference latency bound of 0.05 s could never be met by a fresh chunk.
+        // one action held for two steps, K = 3 at 0.01 s: an inference latency bound of 0.05 s could
+        // never be met by a fresh chunk
         assertThat(problems(replace(VALID, "    layout: 1xKxD\n    chunk_length: 10", "    layout: 1xD")))
                 .containsExactly("watchdog.inference_latency_max (line 26): must be below the plan one chunk gives "
-                        + "(policy.output.chunk_length × timing.policy_step = 1 × 0.01 s = 0.01 s: a chunk that late "
+                        + "(policy.output.chunk_length × timing.policy_step = 3 × 0.01 s = 0.03 s: a chunk that late "
                         + "is entirely in the past), got 0.05");
+        // held for five steps, 0.06 s: the bound holds
+        assertThat(parse(replace(VALID, "    layout: 1xKxD\n    chunk_length: 10", "    layout: 1xD\n    hold_steps: 5"))
+                .policySpec().output().effectiveHoldSteps()).isEqualTo(5);
     }
 
     @Test

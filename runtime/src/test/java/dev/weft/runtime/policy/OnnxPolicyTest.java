@@ -93,15 +93,24 @@ class OnnxPolicyTest {
     }
 
     @Test
-    void singleActionActorIsAChunkOfOne() throws Exception {
+    void singleActionActorIsOneActionHeld() throws Exception {
         Built b = PolicyModels.singleActionPolicy(6, 16, 4, 4);
         PolicySpec spec = PolicySpec.singleInput(write("actor.onnx", b), 6, "obs",
                 new OutputSpec("action", ChunkLayout.SINGLE_ACTION, 0, 4));
         try (OnnxPolicy p = OnnxPolicy.load(spec)) {
-            assertThat(p.chunkLength()).isEqualTo(1);
+            // one action, held for two policy steps: the same action three times
+            assertThat(p.chunkLength()).isEqualTo(3);
             assertThat(p.actionSize()).isEqualTo(4);
             double[] obs = randomObservation(new SplittableRandom(5), 6);
-            assertMatchesEjml(p, b.mlp(), obs, obs, 0);
+            double[] chunk = new double[12];
+            p.infer(obs, 0, chunk);
+            double[] expected = EjmlReference.forward(b.mlp(), obs);
+            for (int j = 0; j < 3; j++) {
+                for (int i = 0; i < 4; i++) {
+                    assertThat(chunk[j * 4 + i]).as("step %d value %d", j, i)
+                            .isCloseTo(expected[i], org.assertj.core.data.Offset.offset(FLOAT32_TOLERANCE));
+                }
+            }
         }
     }
 
@@ -229,11 +238,12 @@ class OnnxPolicyTest {
         PolicySpec spec = new PolicySpec(model, 3, inputs, new OutputSpec("actions", ChunkLayout.SINGLE_ACTION, 0, 0),
                 SessionSettings.DEFAULTS);
         try (OnnxPolicy p = OnnxPolicy.load(spec)) {
-            double[] out = new double[3];
+            double[] out = new double[p.chunkLength() * 3];
+            // one action, held: the same action for each of the held steps
             p.infer(new double[] {1, 2, 3}, 0, out);
-            assertThat(out).containsExactly(11, 22, 33);
+            assertThat(out).containsExactly(11, 22, 33, 11, 22, 33, 11, 22, 33);
             p.infer(new double[] {-1, -2, -3}, 1, out);
-            assertThat(out).containsExactly(9, 18, 27);
+            assertThat(out).containsExactly(9, 18, 27, 9, 18, 27, 9, 18, 27);
         }
     }
 
@@ -377,9 +387,9 @@ class OnnxPolicyTest {
                         + " one that is the chunk");
         try (OnnxPolicy p = OnnxPolicy.load(PolicySpec.singleInput(m, 3, "obs",
                 new OutputSpec("b", ChunkLayout.SINGLE_ACTION, 0, 0)))) {
-            double[] out = new double[3];
+            double[] out = new double[p.chunkLength() * 3];
             p.infer(new double[] {1, 2, 3}, 0, out);
-            assertThat(out).containsExactly(1, 2, 3);
+            assertThat(out).containsExactly(1, 2, 3, 1, 2, 3, 1, 2, 3);
         }
     }
 
