@@ -549,6 +549,15 @@ public final class Weft implements AutoCloseable {
                 throw new IllegalArgumentException("the source gives " + src.size() + " values, the policy reads "
                         + policy.observationSize());
             }
+            if (positionIndex != null && policy instanceof dev.weft.runtime.policy.OnnxPolicy onnx
+                    && onnx.actionRepresentation().needsJointState()
+                    && !java.util.Arrays.equals(positionIndex, LoopSettings.leadingPositions(joints))) {
+                // the policy adds its offsets to the observation's leading values: the loop must read
+                // the joint positions from the same place, or arming and the plan would disagree
+                throw new IllegalArgumentException("the policy's actions are " + onnx.actionRepresentation().label()
+                        + ", offsets from the observation's first " + joints + " values, but the position index "
+                        + java.util.Arrays.toString(positionIndex) + " reads the joint positions elsewhere");
+            }
             long periodNanos = Math.round(period * 1e9);
             ChunkBlender b = blender != null ? blender
                     : TemporalEnsembleBlender.oldestFirst(joints, policy.chunkLength(), stepRatio,
