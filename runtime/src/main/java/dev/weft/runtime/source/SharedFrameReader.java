@@ -59,9 +59,9 @@ public final class SharedFrameReader implements AutoCloseable {
 
     private static final VarHandle LONGS = MethodHandles.byteBufferViewVarHandle(long[].class, ByteOrder.LITTLE_ENDIAN);
 
-    private final Path file;
+    private final String name;
     private final FileChannel channel;
-    private final MappedByteBuffer map;
+    private final ByteBuffer map;
     private final int slots;
     private final int height;
     private final int width;
@@ -74,9 +74,9 @@ public final class SharedFrameReader implements AutoCloseable {
     private long lastNumber;
     private long lastStamp = -1;
 
-    private SharedFrameReader(Path file, FileChannel channel, MappedByteBuffer map, int slots, int height, int width,
+    private SharedFrameReader(String name, FileChannel channel, ByteBuffer map, int slots, int height, int width,
                               int channels, int format, long stride) {
-        this.file = file;
+        this.name = name;
         this.channel = channel;
         this.map = map;
         this.slots = slots;
@@ -156,7 +156,7 @@ public final class SharedFrameReader implements AutoCloseable {
             }
             MappedByteBuffer map = ch.map(FileChannel.MapMode.READ_ONLY, 0, need);
             map.order(ByteOrder.LITTLE_ENDIAN);
-            return new SharedFrameReader(file, ch, map, (int) slots, height, width, channels, format, stride);
+            return new SharedFrameReader(file.toString(), ch, map, (int) slots, height, width, channels, format, stride);
         } catch (IOException | RuntimeException e) {
             closeQuietly(ch);
             throw new BadInputException(where, "could not map the frame file: " + e.getMessage());
@@ -164,6 +164,16 @@ public final class SharedFrameReader implements AutoCloseable {
             closeQuietly(ch);
             throw e;
         }
+    }
+
+    /**
+     * A reader over a ring that lives in this process ({@link FrameRing}), laid out as the file is;
+     * the ring's header was written by weft itself.
+     */
+    static SharedFrameReader over(String name, ByteBuffer ring, int slots, int height, int width, int channels,
+                                  int format, long stride) {
+        ByteBuffer view = ring.duplicate().order(ByteOrder.LITTLE_ENDIAN);
+        return new SharedFrameReader(name, null, view, slots, height, width, channels, format, stride);
     }
 
     private static void closeQuietly(FileChannel ch) {
@@ -253,7 +263,7 @@ public final class SharedFrameReader implements AutoCloseable {
 
     /** For messages. */
     public String describe() {
-        return "frames " + height + " × " + width + " × " + channels + " from " + file;
+        return "frames " + height + " × " + width + " × " + channels + " from " + name;
     }
 
     @Override
