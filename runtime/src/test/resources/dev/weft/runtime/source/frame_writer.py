@@ -7,8 +7,9 @@ Its time stamp is time.monotonic_ns() (CLOCK_MONOTONIC, the clock Java's System.
 on Linux).
 
 Usage: frame_writer.py FILE SLOTS HEIGHT WIDTH CHANNELS RATE_HZ SECONDS
-  RATE_HZ 0 writes as fast as it can, pausing 0.3 ms after each frame (so that a reader finds
-  the finished frame at times and meets the writer in the slot at others).
+  RATE_HZ 0 writes back to back, holding each slot "being written" for 2 ms (a slow write) and
+  pausing 1 ms after each frame, so that a reader finds the finished frame at times and meets
+  the writer in the slot at others, whatever else the machine is doing.
 """
 import struct
 import sys
@@ -44,6 +45,8 @@ def main():
         at = 64 + slot * stride
         word = at // 8
         words[word] = 2 * k - 1                  # being written
+        if rate <= 0:
+            time.sleep(0.002)
         stamps[word + 1] = time.monotonic_ns()
         words[word + 2] = k
         mm[at + 64:at + 64 + frame_bytes] = ((base + (k % 251)) % 251).astype(np.uint8)
@@ -55,7 +58,7 @@ def main():
             if pause > 0:
                 time.sleep(pause)
         else:
-            time.sleep(0.0003)
+            time.sleep(0.001)
     print(k)
 
 
