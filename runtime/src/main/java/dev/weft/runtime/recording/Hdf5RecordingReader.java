@@ -32,7 +32,7 @@ final class Hdf5RecordingReader {
     }
 
     /** One dataset as it was found: its path, its shape and what kind of numbers it holds. */
-    private record Found(String path, Dataset dataset, int[] shape, String type) {
+    record Found(String path, Dataset dataset, int[] shape, String type) {
         int rows() {
             return shape[0];
         }
@@ -77,12 +77,7 @@ final class Hdf5RecordingReader {
 
         double[] times = time == null ? null : values(name, time, problems);
         if (times != null && n > 0) {
-            for (int i = 1; i < n; i++) {
-                if (!(times[i] > times[i - 1])) {
-                    problems.add(at(name, time.path(), i, time), "time " + show(times[i], time) + " is not after "
-                            + show(times[i - 1], time) + " at " + index(i - 1, time) + "; times must increase strictly");
-                }
-            }
+            increasing(name, time, times, problems);
         }
         double[] observations = assemble(name, obs, n, spec.observationSize(), problems);
         double[] actions = assemble(name, act, n, spec.actionSize(), problems);
@@ -99,6 +94,16 @@ final class Hdf5RecordingReader {
             }
         }
         return new Recording(name, times, observations, actions, obsNames, spec.jointNames());
+    }
+
+    /** Records every time in {@code times} (read from {@code time}) that is not after the one before it. */
+    static void increasing(String name, Found time, double[] times, ProblemList problems) {
+        for (int i = 1; i < times.length; i++) {
+            if (!(times[i] > times[i - 1])) {
+                problems.add(at(name, time.path(), i, time), "time " + show(times[i], time) + " is not after "
+                        + show(times[i - 1], time) + " at " + index(i - 1, time) + "; times must increase strictly");
+            }
+        }
     }
 
     /** The datasets of one vector, each checked for type and shape; an entry is null when it is wrong. */
@@ -123,7 +128,7 @@ final class Hdf5RecordingReader {
     }
 
     /** A dataset of one value per sample: shape [n] or [n, 1]. */
-    private static Found column(HdfFile h, String name, String path, String key, String meaning,
+    static Found column(HdfFile h, String name, String path, String key, String meaning,
                                 ProblemList problems) {
         Found f = typed(h, name, path, key, problems);
         if (f == null) {
@@ -158,7 +163,7 @@ final class Hdf5RecordingReader {
     }
 
     /** Follows {@code path} group by group, saying where it stops and what is there instead. */
-    private static Dataset resolve(HdfFile h, String name, String path, ProblemList problems) {
+    static Dataset resolve(HdfFile h, String name, String path, ProblemList problems) {
         String trimmed = path.startsWith("/") ? path.substring(1) : path;
         String shown = "/" + trimmed;
         if (trimmed.isEmpty() || trimmed.endsWith("/") || trimmed.contains("//")) {
@@ -229,7 +234,7 @@ final class Hdf5RecordingReader {
         return b.toString();
     }
 
-    private static String typeName(Dataset d) {
+    static String typeName(Dataset d) {
         if (d.isCompound()) {
             return "compound";
         }
@@ -254,7 +259,7 @@ final class Hdf5RecordingReader {
     }
 
     /** The values of a dataset whose shape was accepted, as doubles, or null after recording why not. */
-    private static double[] values(String name, Found f, ProblemList problems) {
+    static double[] values(String name, Found f, ProblemList problems) {
         Object flat = f.dataset().getDataFlat();
         int len = Array.getLength(flat);
         double[] out = new double[len];
@@ -323,11 +328,11 @@ final class Hdf5RecordingReader {
         return out;
     }
 
-    private static String at(String name, String path) {
+    static String at(String name, String path) {
         return name + " (dataset " + path + ")";
     }
 
-    private static String at(String name, String path, int flatIndex, Found f) {
+    static String at(String name, String path, int flatIndex, Found f) {
         return name + " (dataset " + path + ", index " + index(flatIndex, f) + ")";
     }
 

@@ -1,7 +1,9 @@
 package dev.weft.runtime.recording;
 
+import java.util.HashSet;
 import java.util.List;
 import java.util.Optional;
+import java.util.Set;
 
 /**
  * What a reader needs to read one recording: the format (or none, to take it from the file name),
@@ -14,17 +16,34 @@ import java.util.Optional;
  * @param action where the action (one value per joint, in joint order) is
  * @param observationSize values per observation (the policy's observation size)
  * @param jointNames the joints in action order; the recording's action names are these
+ * @param cameras the camera streams (HDF5 only), each with its own frames and times; may be empty
  */
 public record RecordingSpec(Optional<RecordingFormat> format, String time, Columns observation, Columns action,
-                            int observationSize, List<String> jointNames) {
+                            int observationSize, List<String> jointNames, List<CameraSpec> cameras) {
+
+    /** A spec with no camera streams. */
+    public RecordingSpec(Optional<RecordingFormat> format, String time, Columns observation, Columns action,
+                         int observationSize, List<String> jointNames) {
+        this(format, time, observation, action, observationSize, jointNames, List.of());
+    }
 
     public RecordingSpec {
         if (format == null || time == null || time.isBlank() || observation == null || action == null
-                || jointNames == null) {
+                || jointNames == null || cameras == null) {
             throw new IllegalArgumentException("a recording spec needs a format (or empty), a time, "
-                    + "observation and action columns and the joint names");
+                    + "observation and action columns, the joint names and a list of cameras (or none)");
         }
         jointNames = List.copyOf(jointNames);
+        cameras = List.copyOf(cameras);
+        Set<String> cameraNames = new HashSet<>();
+        for (CameraSpec c : cameras) {
+            if (!cameraNames.add(c.name())) {
+                throw new IllegalArgumentException("camera \"" + c.name() + "\" is named twice");
+            }
+        }
+        if (format.isPresent() && format.get() == RecordingFormat.CSV && !cameras.isEmpty()) {
+            throw new IllegalArgumentException("camera frames are read from HDF5 recordings only");
+        }
         if (observationSize < 1 || jointNames.isEmpty()) {
             throw new IllegalArgumentException("observation size and joint count must be >= 1, got "
                     + observationSize + " and " + jointNames.size());

@@ -3,6 +3,8 @@ package dev.weft.runtime.recording;
 import dev.weft.runtime.BadInputException;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
 import java.util.Optional;
 
 /**
@@ -32,6 +34,12 @@ import java.util.Optional;
  * length n; a matrix is one 2-D dataset {@code [n, size]}. Accepted element types: float64, float32
  * and integers (8 to 64 bits; an integer must be exactly representable as a double, at most 2^53 in
  * magnitude). Text, compound and other types are refused.
+ *
+ * <p><b>Cameras (HDF5 only).</b> Each camera has a 4-D dataset {@code [n, height, width, channels]}
+ * of unsigned 8-bit integers (uint8; signed 8-bit, wider integers and floats are refused), with 3
+ * channels for rgb8 and bgr8 and 1 for grey8, and its own 1-D time dataset {@code [n]} (or
+ * {@code [n, 1]}) of the types the time accepts, finite and strictly increasing, at the camera's own
+ * rate, independent of the joint-state time. {@link #readCameras} reads them; {@link #read} does not.
  *
  * <p>The recording's observation names are the CSV column names, the HDF5 dataset paths, or
  * {@code path[k]} for column k of a matrix; its action names are the spec's joint names.
@@ -67,6 +75,46 @@ public final class Recordings {
             return CsvRecordingReader.read(file, name, spec);
         }
         return Hdf5RecordingReader.read(file, name, spec);
+    }
+
+    /**
+     * Reads and checks the camera streams of an HDF5 recording: every camera of
+     * {@code spec.cameras()}, each read whole into memory (at most 2147483639 bytes, just under 2 GiB,
+     * per camera). The joint-state datasets are not read here; {@link #read} reads them.
+     *
+     * @param file the recording; messages name it as given here
+     * @param spec where the cameras' frames and times are
+     * @return one {@link RecordedFrames} per camera, in the spec's order; empty when the spec names none
+     * @throws BadInputException naming the file and the dataset (and index) of every problem found,
+     *     or the {@code recording.cameras} key when the file is read as CSV
+     */
+    public static List<RecordedFrames> readCameras(Path file, RecordingSpec spec) throws BadInputException {
+        return readCameras(file, spec, Hdf5FrameReader.FRAME_BYTES_MAX);
+    }
+
+    /** {@link #readCameras(Path, RecordingSpec)} with another bound on a camera's bytes, for tests. */
+    static List<RecordedFrames> readCameras(Path file, RecordingSpec spec, long frameBytesMax)
+            throws BadInputException {
+        if (spec.cameras().isEmpty()) {
+            return List.of();
+        }
+        String name = file.toString();
+        if (!Files.exists(file)) {
+            throw new BadInputException(name, "file not found");
+        }
+        if (!Files.isRegularFile(file)) {
+            throw new BadInputException(name, "is not a file");
+        }
+        if (formatOf(file, spec.format()) == RecordingFormat.CSV) {
+            List<String> names = new ArrayList<>();
+            for (CameraSpec c : spec.cameras()) {
+                names.add(c.name());
+            }
+            throw new BadInputException(name, "is read as CSV, but recording.cameras names " + names.size()
+                    + " camera" + (names.size() == 1 ? "" : "s") + " (" + String.join(", ", names)
+                    + "); camera frames are read only from an HDF5 recording");
+        }
+        return Hdf5FrameReader.read(file, name, spec.cameras(), frameBytesMax);
     }
 
     private static RecordingFormat formatOf(Path file, Optional<RecordingFormat> given) throws BadInputException {
