@@ -11,6 +11,7 @@ import dev.weft.runtime.policy.NormalisationSpec;
 import dev.weft.runtime.policy.OutputSpec;
 import dev.weft.runtime.policy.PolicySpec;
 import dev.weft.runtime.policy.SessionSettings;
+import dev.weft.runtime.recording.CameraSpec;
 import dev.weft.runtime.recording.Columns;
 import dev.weft.runtime.recording.RecordingFormat;
 import dev.weft.runtime.telemetry.TargetFile;
@@ -648,11 +649,12 @@ final class ConfigParser {
         if (action != null && !action.matrix()) {
             recordedActionColumns = action.names().size();
         }
+        List<CameraSpec> cameras = new CameraSection(r).read(s, format);
         s.done();
         if (r.count() != before) {
             return null;
         }
-        return Optional.of(new RecordingConfig(Optional.ofNullable(format), time, observation, action));
+        return Optional.of(new RecordingConfig(Optional.ofNullable(format), time, observation, action, cameras));
     }
 
     /** A list of column names or dataset paths, or (not for CSV) one dataset path; null with a problem. */

@@ -161,6 +161,6 @@ public record WeftConfig(RobotConfig robot, TimingConfig timing, PolicySpec poli
             joints.add(j.name());
         }
         return Optional.of(new RecordingSpec(c.format(), c.time(), c.observation(), c.action(),
-                policy.observationSize(), joints));
+                policy.observationSize(), joints, c.cameras()));
     }
 }

@@ -323,6 +323,35 @@ class RecordedFramesTest {
     }
 
     @Test
+    void theCameraErrorExampleInTheConfigurationDocsIsWhatTheReaderSays() throws Exception {
+        String doc = Files.readString(Path.of("..", "docs", "configuration.md"));
+        int at = doc.indexOf("Cameras are reported the same way");
+        assertThat(at).as("docs/configuration.md has the camera error example").isPositive();
+        int start = doc.indexOf("```\n", at) + 4;
+        String example = doc.substring(start, doc.indexOf("```", start)).strip();
+        Path f = h5("episode.h5", w -> {
+            WritableGroup cam = w.putGroup("cam");
+            WritableGroup wrist = cam.putGroup("wrist");
+            wrist.putDataset("rgb", frames(30, 24, 32, 3));
+            wrist.putDataset("t", cameraTimes(30));
+            WritableGroup top = cam.putGroup("top");
+            top.putDataset("grey", frames(30, 24, 32, 3), UINT8);
+            top.putDataset("t", cameraTimes(30));
+            WritableGroup side = cam.putGroup("side");
+            side.putDataset("rgb", frames(30, 24, 32, 3), UINT8);
+            side.putDataset("t", cameraTimes(29));
+        });
+        List<CameraSpec> cameras = List.of(
+                new CameraSpec("wrist", "/cam/wrist/rgb", "/cam/wrist/t", PixelFormat.RGB8),
+                new CameraSpec("top", "/cam/top/grey", "/cam/top/t", PixelFormat.GREY8),
+                new CameraSpec("side", "/cam/side/rgb", "/cam/side/t", PixelFormat.RGB8));
+        BadInputException e = catchThrowableOfType(() -> Recordings.readCameras(f, spec(cameras)),
+                BadInputException.class);
+        String prefix = dir + File.separator;
+        assertThat(e.getMessage().replace(prefix, "").replace(System.lineSeparator(), "\n")).isEqualTo(example);
+    }
+
+    @Test
     void frameTimesMustBeFiniteAndIncreaseStrictly() {
         Path f = h5("times.h5", w -> {
             w.putDataset("rgb", frames(5, 2, 2, 3), UINT8);
