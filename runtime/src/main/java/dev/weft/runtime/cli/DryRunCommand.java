@@ -6,6 +6,7 @@ import dev.weft.runtime.config.WeftConfig;
 import dev.weft.runtime.dryrun.DryRun;
 import dev.weft.runtime.dryrun.DryRunSummary;
 import dev.weft.runtime.dryrun.GateThresholds;
+import dev.weft.runtime.recording.RecordedFrames;
 import dev.weft.runtime.recording.Recording;
 import dev.weft.runtime.recording.RecordingSpec;
 import dev.weft.runtime.recording.Recordings;
@@ -81,6 +82,7 @@ final class DryRunCommand implements Callable<Integer> {
                 }
             }
             Recording rec = Recordings.read(recording, rs.get());
+            List<String> cameras = cameraNotes(recording, rs.get());
             try {
                 java.nio.file.Files.createDirectories(report);
             } catch (IOException e) {
@@ -88,6 +90,7 @@ final class DryRunCommand implements Callable<Integer> {
                         + (e instanceof java.nio.file.AccessDeniedException ? "permission denied" : e.getMessage()) + ")");
             }
             out.println(DryRun.portNote(run));
+            cameras.forEach(out::println);
             out.flush();
             String name = recording.getFileName().toString();
             DryRun.Result r = DryRun.run(run, rec, new DryRun.Options(report, name, closedLoop, realtime, latencyTicks,
@@ -114,6 +117,20 @@ final class DryRunCommand implements Callable<Integer> {
     }
 
     /** One summary's verdict and headline figures. */
+    /**
+     * Reads and checks the recording's cameras, one line each. The frames are not kept: they are not
+     * replayed into the loop yet.
+     */
+    private static List<String> cameraNotes(Path file, RecordingSpec spec) throws BadInputException {
+        List<String> notes = new ArrayList<>();
+        for (RecordedFrames f : Recordings.readCameras(file, spec)) {
+            notes.add(String.format(Locale.ROOT, "camera    %s: %d frames %d × %d %s, %.3f s to %.3f s; read and "
+                            + "checked, not replayed into the loop yet", f.camera(), f.frameCount(), f.height(),
+                    f.width(), f.pixelFormat().label(), f.time(0), f.time(f.frameCount() - 1)));
+        }
+        return notes;
+    }
+
     static void printVerdict(PrintWriter out, DryRunSummary s) {
         double worst = Double.NaN;
         for (double v : s.rmsError()) {

@@ -178,6 +178,60 @@ class DryRunCommandTest {
         assertThat(bad.err()).startsWith("weft dry-run: --gate: rms: no such gate");
     }
 
+    /** The same wave as {@link #recording} in HDF5, with a 30 Hz rgb8 camera of 6 × 8 frames. */
+    private Path hdf5Recording(int samples, boolean signedFrames) {
+        Path p = dir.resolve("wave.h5");
+        double[] t = new double[samples];
+        double[] q = new double[samples];
+        for (int k = 0; k < samples; k++) {
+            t[k] = k * 0.01;
+            q[k] = 0.3 * Math.sin(0.5 * k * 0.01);
+        }
+        int frames = (int) Math.ceil(samples * 0.01 * 30);
+        double[] ft = new double[frames];
+        for (int i = 0; i < frames; i++) {
+            ft[i] = i / 30.0;
+        }
+        try (io.jhdf.WritableHdfFile w = io.jhdf.HdfFile.write(p)) {
+            w.putDataset("time", t);
+            w.putDataset("q.x", q);
+            w.putDataset("a.x", q);
+            io.jhdf.api.WritableGroup wrist = w.putGroup("cam").putGroup("wrist");
+            io.jhdf.api.DatasetCreationOptions.Builder b = io.jhdf.api.DatasetCreationOptions.builder();
+            wrist.putDataset("rgb", new byte[frames][6][8][3], (signedFrames ? b : b.unsigned()).build());
+            wrist.putDataset("t", ft);
+        }
+        return p;
+    }
+
+    private Path configWithCamera() throws Exception {
+        Path cfg = config("{kind: discard}");
+        return Files.writeString(cfg, Files.readString(cfg).replace("  action: [a.x]\n",
+                "  action: [a.x]\n  cameras:\n    wrist: {frames: /cam/wrist/rgb, time: /cam/wrist/t, "
+                        + "pixel_format: rgb8}\n"));
+    }
+
+    @Test
+    void aRecordingsCamerasAreReadAndCheckedButNotReplayed() throws Exception {
+        Path cfg = configWithCamera();
+        Path rec = hdf5Recording(400, false);
+        InspectCommandTest.Run r = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
+                "--report", dir.resolve("out").toString(), "--latency-ticks", "2");
+        assertThat(r.exit()).as(r.out() + r.err()).isZero();
+        // 400 samples at 100 Hz are 4 s: 120 frames at 30 Hz, the last at 119/30 = 3.967 s
+        assertThat(r.out()).contains("camera    wrist: 120 frames 6 × 8 rgb8, 0.000 s to 3.967 s; read and checked, "
+                + "not replayed into the loop yet").contains("PASS      wave.h5: 400 ticks");
+
+        Path bad = hdf5Recording(400, true);
+        InspectCommandTest.Run refused = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording",
+                bad.toString(), "--report", dir.resolve("out2").toString());
+        assertThat(refused.exit()).isEqualTo(2);
+        assertThat(refused.err()).isEqualTo("weft dry-run: " + bad + " (dataset /cam/wrist/rgb): holds signed 8-bit "
+                + "integer values; recording.cameras.wrist.frames needs unsigned 8-bit integers (uint8), one byte per "
+                + "channel" + System.lineSeparator());
+        assertThat(dir.resolve("out2")).doesNotExist();
+    }
+
     @Test
     void aMalformedRecordingIsRefusedNamingFileLineAndColumn() throws Exception {
         Path cfg = config("{kind: discard}");
