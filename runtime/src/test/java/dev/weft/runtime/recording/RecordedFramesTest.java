@@ -29,8 +29,8 @@ import org.junit.jupiter.api.io.TempDir;
  */
 class RecordedFramesTest {
 
-    /** Unsigned 8-bit storage, as camera recorders write it. */
-    private static final DatasetCreationOptions UINT8 = DatasetCreationOptions.builder().unsigned().build();
+    /** Unsigned integer storage: with byte data, the uint8 camera recorders write. */
+    private static final DatasetCreationOptions UNSIGNED = DatasetCreationOptions.builder().unsigned().build();
 
     private static final int H = 48;
     private static final int W = 64;
@@ -94,7 +94,7 @@ class RecordedFramesTest {
             act.putDataset("shoulder", a0);
             act.putDataset("elbow", a1);
             WritableGroup wrist = w.putGroup("cam").putGroup("wrist");
-            wrist.putDataset("rgb", frames(30, H, W, 3), UINT8);
+            wrist.putDataset("rgb", frames(30, H, W, 3), UNSIGNED);
             wrist.putDataset("t", cameraTimes(30));
             // a second camera, chunked and compressed as recorders often store images, at 10 Hz
             WritableGroup top = w.putGroup("top");
@@ -215,6 +215,63 @@ class RecordedFramesTest {
         assertThat(joints.sampleAtOrBefore(0.043)).isEqualTo(4);
     }
 
+    /**
+     * The lookup against NumPy's {@code searchsorted(times, t, side="right") - 1} (the index of the
+     * last time {@code <= t}, -1 before the first; NumPy's documented meaning of side="right"), on a
+     * camera with jittered times and on queries at, between, before and after the frames.
+     */
+    @Test
+    void theLatestFrameAtOrBeforeMatchesNumpySearchsorted() throws Exception {
+        int n = 90;
+        double[] t = new double[n];
+        for (int i = 0; i < n; i++) {
+            t[i] = 0.25 + i / 30.0 + 0.004 * Math.sin(7.0 * i);
+        }
+        Path f = h5("jitter.h5", w -> {
+            w.putDataset("rgb", frames(n, 2, 2, 3), UNSIGNED);
+            w.putDataset("t", t);
+        });
+        RecordedFrames cam = Recordings.readCameras(f,
+                spec(List.of(new CameraSpec("wrist", "rgb", "t", PixelFormat.RGB8))), Hdf5FrameReader.FRAME_BYTES_MAX)
+                .get(0);
+        java.util.Random random = new java.util.Random(12);
+        double[] q = new double[1000];
+        for (int k = 0; k < q.length; k++) {
+            q[k] = switch (k % 4) {
+                case 0 -> t[random.nextInt(n)];
+                case 1 -> Math.nextDown(t[random.nextInt(n)]);
+                default -> random.nextDouble() * 3.6;
+            };
+        }
+        StringBuilder in = new StringBuilder();
+        for (double v : t) {
+            in.append(v).append(' ');
+        }
+        in.append('\n');
+        for (double v : q) {
+            in.append(v).append(' ');
+        }
+        in.append('\n');
+        String script = "import sys, numpy as np\n"
+                + "t = np.array([float(x) for x in sys.stdin.readline().split()])\n"
+                + "q = np.array([float(x) for x in sys.stdin.readline().split()])\n"
+                + "print(' '.join(str(int(i)) for i in np.searchsorted(t, q, side='right') - 1))\n";
+        Process p = new ProcessBuilder(dev.weft.runtime.Python3.withNumpy(), "-c", script).start();
+        p.getOutputStream().write(in.toString().getBytes(java.nio.charset.StandardCharsets.US_ASCII));
+        p.getOutputStream().close();
+        String answer = new String(p.getInputStream().readAllBytes(), java.nio.charset.StandardCharsets.US_ASCII);
+        String errors = new String(p.getErrorStream().readAllBytes(), java.nio.charset.StandardCharsets.UTF_8);
+        assertThat(p.waitFor()).as("python3 with NumPy: %s", errors).isZero();
+        String[] expected = answer.trim().split(" ");
+        assertThat(expected).hasSize(q.length);
+        int before = 0;
+        for (int k = 0; k < q.length; k++) {
+            assertThat(cam.frameAtOrBefore(q[k])).as("t = %s", q[k]).isEqualTo(Integer.parseInt(expected[k]));
+            before += cam.frameAtOrBefore(q[k]) < 0 ? 1 : 0;
+        }
+        assertThat(before).as("queries before the first frame").isPositive();
+    }
+
     @Test
     void copyingAFrameAllocatesNothing() throws Exception {
         RecordedFrames wrist = Recordings.readCameras(withCameras(), spec(List.of(WRIST))).get(0);
@@ -259,17 +316,17 @@ class RecordedFramesTest {
     void everyWrongCameraIsNamedByFileAndDatasetAtOnce() {
         Path f = h5("bad.h5", w -> {
             w.putDataset("f32", new float[2][2][2][3]);
-            w.putDataset("u16", new short[2][2][2][3], UINT8);
+            w.putDataset("u16", new short[2][2][2][3], UNSIGNED);
             w.putDataset("i8", frames(2, 2, 2, 3));
-            w.putDataset("rank3", new byte[2][2][2], UINT8);
-            w.putDataset("four", frames(2, 2, 2, 4), UINT8);
-            w.putDataset("grey", frames(2, 2, 2, 1), UINT8);
-            w.putDataset("ok", frames(3, 2, 2, 3), UINT8);
+            w.putDataset("rank3", new byte[2][2][2], UNSIGNED);
+            w.putDataset("four", frames(2, 2, 2, 4), UNSIGNED);
+            w.putDataset("grey", frames(2, 2, 2, 1), UNSIGNED);
+            w.putDataset("ok", frames(3, 2, 2, 3), UNSIGNED);
             w.putDataset("t2", new double[] {0, 1});
             w.putDataset("t3", new double[] {0, 1, 2});
             w.putDataset("t3wide", new double[][] {{0, 1}, {1, 2}, {2, 3}});
             w.putDataset("t3text", new String[] {"0", "1", "2"});
-            w.putDataset("big", frames(4, 4, 4, 3), UINT8);
+            w.putDataset("big", frames(4, 4, 4, 3), UNSIGNED);
             w.putDataset("t4", new double[] {0, 1, 2, 3});
         });
         List<CameraSpec> cameras = List.of(
@@ -335,10 +392,10 @@ class RecordedFramesTest {
             wrist.putDataset("rgb", frames(30, 24, 32, 3));
             wrist.putDataset("t", cameraTimes(30));
             WritableGroup top = cam.putGroup("top");
-            top.putDataset("grey", frames(30, 24, 32, 3), UINT8);
+            top.putDataset("grey", frames(30, 24, 32, 3), UNSIGNED);
             top.putDataset("t", cameraTimes(30));
             WritableGroup side = cam.putGroup("side");
-            side.putDataset("rgb", frames(30, 24, 32, 3), UINT8);
+            side.putDataset("rgb", frames(30, 24, 32, 3), UNSIGNED);
             side.putDataset("t", cameraTimes(29));
         });
         List<CameraSpec> cameras = List.of(
@@ -354,9 +411,9 @@ class RecordedFramesTest {
     @Test
     void frameTimesMustBeFiniteAndIncreaseStrictly() {
         Path f = h5("times.h5", w -> {
-            w.putDataset("rgb", frames(5, 2, 2, 3), UINT8);
+            w.putDataset("rgb", frames(5, 2, 2, 3), UNSIGNED);
             w.putDataset("t", new double[] {0, 0.1, 0.1, Double.NaN, 0.05});
-            w.putDataset("grey", frames(3, 2, 2, 1), UINT8);
+            w.putDataset("grey", frames(3, 2, 2, 1), UNSIGNED);
             w.putDataset("t_grey", new long[][] {{3}, {2}, {4}});
         });
         List<CameraSpec> cameras = List.of(new CameraSpec("wrist", "rgb", "t", PixelFormat.RGB8),
@@ -366,7 +423,7 @@ class RecordedFramesTest {
                 "times.h5 (dataset /t_grey, index [1, 0]): time 2 is not after 3 at [0, 0]; times must increase "
                         + "strictly");
         Path g = h5("order.h5", w -> {
-            w.putDataset("rgb", frames(3, 2, 2, 3), UINT8);
+            w.putDataset("rgb", frames(3, 2, 2, 3), UNSIGNED);
             w.putDataset("t", new double[] {0, 0.1, 0.1});
         });
         assertThat(problems(g, spec(List.of(cameras.get(0))), Hdf5FrameReader.FRAME_BYTES_MAX)).containsExactly(
@@ -384,7 +441,7 @@ class RecordedFramesTest {
     @Test
     void aCameraWithNoFramesIsRefused() throws Exception {
         Path f = h5("empty.h5", w -> {
-            w.putDataset("rgb", new byte[1][5][7][3], UINT8);
+            w.putDataset("rgb", new byte[1][5][7][3], UNSIGNED);
             w.putDataset("t", new double[] {0});
         });
         byte[] b = Files.readAllBytes(f);

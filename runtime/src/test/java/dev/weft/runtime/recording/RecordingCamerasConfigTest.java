@@ -60,13 +60,13 @@ class RecordingCamerasConfigTest {
         assertThat(c.recording().orElseThrow().cameras()).isEqualTo(spec.cameras());
 
         Path f = dir.resolve("cell.h5");
-        DatasetCreationOptions uint8 = DatasetCreationOptions.builder().unsigned().build();
+        DatasetCreationOptions unsigned = DatasetCreationOptions.builder().unsigned().build();
         try (WritableHdfFile w = HdfFile.write(f)) {
             w.putDataset("time", new double[] {0, 0.5});
             w.putDataset("obs", new double[][] {{1, 2, 3}, {4, 5, 6}});
             w.putDataset("act", new double[][] {{1, 2}, {3, 4}});
             w.putGroup("cam").putGroup("wrist").putDataset("rgb",
-                    new byte[][][][] {{{{1, 2, 3}, {4, 5, 6}}}, {{{(byte) 200, 8, 9}, {10, 11, (byte) 255}}}}, uint8);
+                    new byte[][][][] {{{{1, 2, 3}, {4, 5, 6}}}, {{{(byte) 200, 8, 9}, {10, 11, (byte) 255}}}}, unsigned);
         }
         // this file lacks the wrist's times and the top camera; the next one has them
         BadInputException missing = catchThrowableOfType(() -> Recordings.readCameras(f, spec),
@@ -86,10 +86,10 @@ class RecordingCamerasConfigTest {
             w.putDataset("act", new double[][] {{1, 2}, {3, 4}});
             var wrist = w.putGroup("cam").putGroup("wrist");
             wrist.putDataset("rgb",
-                    new byte[][][][] {{{{1, 2, 3}, {4, 5, 6}}}, {{{(byte) 200, 8, 9}, {10, 11, (byte) 255}}}}, uint8);
+                    new byte[][][][] {{{{1, 2, 3}, {4, 5, 6}}}, {{{(byte) 200, 8, 9}, {10, 11, (byte) 255}}}}, unsigned);
             wrist.putDataset("t", new double[] {0.01, 0.04});
             var top = w.putGroup("top");
-            top.putDataset("grey", new byte[][][][] {{{{7}}}}, uint8);
+            top.putDataset("grey", new byte[][][][] {{{{7}}}}, unsigned);
             top.putDataset("t", new double[] {0.2});
         }
         List<RecordedFrames> frames = Recordings.readCameras(g, spec);
