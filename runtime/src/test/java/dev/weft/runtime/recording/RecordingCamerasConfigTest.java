@@ -149,5 +149,23 @@ class RecordingCamerasConfigTest {
                   cameras: [wrist]
                 """)).containsExactly(
                 "recording.cameras (line 35): must be a map, got a list");
+        assertThat(problems("""
+                recording:
+                  time: /time
+                  observation: /obs
+                  action: /act
+                  cameras:
+                    "": {frames: /rgb, time: /t, pixel_format: rgb8}
+                    wrist:
+                """)).containsExactly(
+                "recording.cameras[\"\"] (line 36): a camera's name must not be empty",
+                "recording.cameras.wrist (line 37): has no value");
+        assertThat(problems("""
+                recording:
+                  time: /time
+                  observation: /obs
+                  action: /act
+                  cameras:
+                """)).containsExactly("recording.cameras (line 35): has no value");
     }
 }
