@@ -96,10 +96,11 @@ class RecordedFramesTest {
             WritableGroup wrist = w.putGroup("cam").putGroup("wrist");
             wrist.putDataset("rgb", frames(30, H, W, 3), UNSIGNED);
             wrist.putDataset("t", cameraTimes(30));
-            // a second camera, chunked and compressed as recorders often store images, at 10 Hz
+            // a second camera at 10 Hz, chunked and compressed as recorders often store images, in chunks that do
+            // not divide the shape (edge chunks are partly outside it)
             WritableGroup top = w.putGroup("top");
             top.putDataset("grey", frames(10, 12, 20, 1),
-                    DatasetCreationOptions.builder().unsigned().chunkDimensions(1, 12, 20, 1).deflate().build());
+                    DatasetCreationOptions.builder().unsigned().chunkDimensions(3, 5, 7, 1).deflate().build());
             top.putDataset("t", new float[] {0, 0.1f, 0.2f, 0.3f, 0.4f, 0.5f, 0.6f, 0.7f, 0.8f, 0.9f});
         });
     }
