@@ -432,27 +432,23 @@ class RecordedFramesTest {
     }
 
     /**
-     * jhdf cannot write a dataset with no elements (it takes the element type from the first one), so
-     * the empty camera is a file jhdf wrote with one frame of {@code [1, 5, 7, 3]} whose dataspace is
-     * then edited to {@code [0, 5, 7, 3]}, its object header's checksum recomputed (HDF5 file format
-     * specification: version 2 dataspace message, version 2 object header "OHDR" with a Jenkins
-     * lookup3 checksum over the header chunk, recomputed with jhdf's own {@code ChecksumUtils}). jhdf
-     * reading the edited shape back shows the edit is a well-formed file.
+     * Edits the shape of the one 4-D dataset of {@code file} shaped {@code from} to {@code to}: jhdf
+     * cannot write a dataset with no elements (it takes the element type from the first one), so
+     * empty cameras are files jhdf wrote with a non-empty shape whose dataspace is then edited, and
+     * the object header's checksum recomputed (HDF5 file format specification: version 2 dataspace
+     * message, version 2 object header "OHDR" whose chunk ends in a Jenkins lookup3 checksum of it,
+     * recomputed with jhdf's own {@code ChecksumUtils}). jhdf reading the edited shape back shows
+     * the edit made a well-formed file.
      */
-    @Test
-    void aCameraWithNoFramesIsRefused() throws Exception {
-        Path f = h5("empty.h5", w -> {
-            w.putDataset("rgb", new byte[1][5][7][3], UNSIGNED);
-            w.putDataset("t", new double[] {0});
-        });
-        byte[] b = Files.readAllBytes(f);
+    private static void editShape(Path file, String dataset, long[] from, long[] to) throws Exception {
+        byte[] b = Files.readAllBytes(file);
         ByteBuffer le = ByteBuffer.wrap(b).order(java.nio.ByteOrder.LITTLE_ENDIAN);
         int dims = -1;
         for (int i = 0; i + 36 <= b.length; i++) {
-            // version 2, rank 4, no maximum dimensions, simple dataspace; then 8-byte lengths 1, 5, 7, 3
-            if (b[i] == 2 && b[i + 1] == 4 && b[i + 2] == 0 && b[i + 3] == 1 && le.getLong(i + 4) == 1
-                    && le.getLong(i + 12) == 5 && le.getLong(i + 20) == 7 && le.getLong(i + 28) == 3) {
-                assertThat(dims).as("one dataspace [1, 5, 7, 3] in the file").isEqualTo(-1);
+            // version 2, rank 4, no maximum dimensions, simple dataspace; then the 8-byte lengths
+            if (b[i] == 2 && b[i + 1] == 4 && b[i + 2] == 0 && b[i + 3] == 1 && le.getLong(i + 4) == from[0]
+                    && le.getLong(i + 12) == from[1] && le.getLong(i + 20) == from[2] && le.getLong(i + 28) == from[3]) {
+                assertThat(dims).as("one dataspace %s in the file", java.util.Arrays.toString(from)).isEqualTo(-1);
                 dims = i + 4;
             }
         }
@@ -471,18 +467,37 @@ class RecordedFramesTest {
                 : sizeWidth == 4 ? le.getInt(at) & 0xffffffffL : le.getLong(at);
         int end = (int) (at + sizeWidth + chunk);
         assertThat(end).isGreaterThan(dims);
-        byte[] covered = java.util.Arrays.copyOfRange(b, header, end);
-        assertThat(io.jhdf.checksum.ChecksumUtils.checksum(covered)).as("checksum before the edit")
-                .isEqualTo(le.getInt(end));
-        le.putLong(dims, 0);
-        le.putInt(end, io.jhdf.checksum.ChecksumUtils.checksum(java.util.Arrays.copyOfRange(b, header, end)));
-        Files.write(f, b);
-        try (HdfFile h = new HdfFile(f)) {
-            assertThat(h.getDatasetByPath("rgb").getDimensions()).containsExactly(0, 5, 7, 3);
+        assertThat(io.jhdf.checksum.ChecksumUtils.checksum(java.util.Arrays.copyOfRange(b, header, end)))
+                .as("checksum before the edit").isEqualTo(le.getInt(end));
+        for (int k = 0; k < 4; k++) {
+            le.putLong(dims + 8 * k, to[k]);
         }
-        assertThat(problems(f, spec(List.of(new CameraSpec("wrist", "rgb", "t", PixelFormat.RGB8))),
-                Hdf5FrameReader.FRAME_BYTES_MAX)).containsExactly(
-                "empty.h5 (dataset /rgb): has no frames (shape [0, 5, 7, 3])");
+        le.putInt(end, io.jhdf.checksum.ChecksumUtils.checksum(java.util.Arrays.copyOfRange(b, header, end)));
+        Files.write(file, b);
+        try (HdfFile h = new HdfFile(file)) {
+            int[] shape = h.getDatasetByPath(dataset).getDimensions();
+            for (int k = 0; k < 4; k++) {
+                assertThat((long) shape[k]).isEqualTo(to[k]);
+            }
+        }
+    }
+
+    @Test
+    void aCameraWithNoFramesOrEmptyFramesIsRefused() throws Exception {
+        Path f = h5("empty.h5", w -> {
+            w.putDataset("rgb", new byte[1][5][7][3], UNSIGNED);
+            w.putDataset("flat", new byte[2][3][4][1], UNSIGNED);
+            w.putDataset("t", new double[] {0});
+            w.putDataset("t2", new double[] {0, 1});
+        });
+        editShape(f, "rgb", new long[] {1, 5, 7, 3}, new long[] {0, 5, 7, 3});
+        editShape(f, "flat", new long[] {2, 3, 4, 1}, new long[] {2, 0, 4, 1});
+        assertThat(problems(f, spec(List.of(new CameraSpec("wrist", "rgb", "t", PixelFormat.RGB8),
+                new CameraSpec("top", "flat", "t2", PixelFormat.GREY8))), Hdf5FrameReader.FRAME_BYTES_MAX))
+                .containsExactly(
+                        "empty.h5 (dataset /rgb): has no frames (shape [0, 5, 7, 3])",
+                        "empty.h5 (dataset /flat): has empty frames (shape [2, 0, 4, 1]); a frame needs a height and "
+                                + "a width of at least 1");
     }
 
     @Test
