@@ -235,14 +235,22 @@ class ImagePreprocessorTest {
         for (int i = 0; i < 50; i++) {
             p.apply(frame, 0, out);
         }
-        long id = Thread.currentThread().getId();
-        long before = mx.getThreadAllocatedBytes(id);
-        for (int i = 0; i < 20; i++) {
-            p.apply(frame, 0, out);
+        // up to three windows of 20 frames: an allocation of apply itself shows in every window; the
+        // JIT's own one-off work (a deoptimisation re-creating objects it had eliminated, about a
+        // kilobyte once) can show in one, and is not the frame's
+        long[] windows = new long[3];
+        boolean clean = false;
+        for (int w = 0; w < windows.length && !clean; w++) {
+            long before = mx.getCurrentThreadAllocatedBytes();
+            for (int i = 0; i < 20; i++) {
+                p.apply(frame, 0, out);
+            }
+            windows[w] = mx.getCurrentThreadAllocatedBytes() - before;
+            clean = windows[w] < 256;
         }
-        long after = mx.getThreadAllocatedBytes(id);
-        // the measurement itself may cost a few bytes at most; a frame's worth of boxing would be megabytes
-        assertThat(after - before).isLessThan(256);
+        // a frame's output as a new array would be 147 KB each time; boxing each value, megabytes
+        assertThat(clean).as("a window of 20 frames allocating under 256 bytes; windows %s",
+                java.util.Arrays.toString(windows)).isTrue();
     }
 
     private static double[] ones(int n) {

@@ -96,17 +96,27 @@ class FrameRingTest {
         for (int i = 0; i < 2_000; i++) {
             ring.offer(stamp += 10, frame, 0);
         }
-        long before = mx.getCurrentThreadAllocatedBytes();
-        for (int i = 0; i < 2_000; i++) {
-            ring.offer(stamp += 10, frame, 0);
+        // up to three windows of 2,000 offers: an allocation of offer itself shows in every window, a
+        // one-off of the JIT's own in one at most
+        long[] windows = new long[3];
+        boolean clean = false;
+        for (int w = 0; w < windows.length && !clean; w++) {
+            long before = mx.getCurrentThreadAllocatedBytes();
+            for (int i = 0; i < 2_000; i++) {
+                ring.offer(stamp += 10, frame, 0);
+            }
+            windows[w] = mx.getCurrentThreadAllocatedBytes() - before;
+            clean = windows[w] < 256;
         }
-        assertThat(mx.getCurrentThreadAllocatedBytes() - before).as("bytes allocated by 2,000 offers").isLessThan(256);
+        assertThat(clean).as("a window of 2,000 offers allocating under 256 bytes; windows %s",
+                java.util.Arrays.toString(windows)).isTrue();
         assertThat(ring.offer(stamp, frame, 0)).as("the same stamp again").isFalse();
-        assertThat(ring.written()).isEqualTo(4_000);
+        long offered = ring.written();
+        assertThat(offered).isBetween(4_000L, 8_000L);
         SharedFrameReader r = ring.reader();
         ByteBuffer out = ByteBuffer.allocateDirect(ring.frameBytes());
         assertThat(r.latest(out)).isEqualTo(stamp);
-        assertThat(r.lastFrameNumber()).isEqualTo(4_000);
+        assertThat(r.lastFrameNumber()).isEqualTo(offered);
         assertThat(r.pixelFormat()).isEqualTo(SharedFrameReader.BGR8);
         // nothing new since: no copy
         assertThat(r.latest(out)).isEqualTo(-1);
