@@ -318,6 +318,7 @@ public final class Weft implements AutoCloseable {
         private long observationAheadMax = LoopSettings.DEFAULT_OBSERVATION_AHEAD_MAX_NANOS;
         private double planRangeSlack;
         private int stallPeriods = LoopSettings.DEFAULT_STALL_PERIODS;
+        private final List<ControlLoop.Camera> cameras = new ArrayList<>();
 
         private Builder(JointLimits limits, double period) {
             if (limits == null) {
@@ -448,6 +449,31 @@ public final class Weft implements AutoCloseable {
             }
             this.telemetryDrainNanos = Math.round(seconds * 1e9);
             return this;
+        }
+
+        /**
+         * Watches a camera whose frames another process writes into a shared-memory frame file (or
+         * any frame ring): every tick the age of its latest frame is checked against
+         * {@code ageMaxSeconds} (the frame-stale condition stops the robot; no frame yet counts as
+         * stale, so arming waits for the camera) and recorded in telemetry as
+         * {@code frame_age_ms.<name>}. The reader becomes the loop's own.
+         */
+        public Builder camera(String name, dev.weft.runtime.source.SharedFrameReader reader, double ageMaxSeconds) {
+            if (!(ageMaxSeconds > 0 && ageMaxSeconds < Double.POSITIVE_INFINITY)) {
+                throw new IllegalArgumentException("camera " + name + ": the age bound must be > 0 s, got " + ageMaxSeconds);
+            }
+            for (ControlLoop.Camera c : cameras) {
+                if (c.name().equals(name)) {
+                    throw new IllegalArgumentException("camera " + name + " is watched already");
+                }
+            }
+            cameras.add(new ControlLoop.Camera(name, reader, Math.round(ageMaxSeconds * 1e9)));
+            return this;
+        }
+
+        /** As {@link #camera(String, dev.weft.runtime.source.SharedFrameReader, double)}, for frames offered in this process. */
+        public Builder camera(String name, dev.weft.runtime.source.FrameRing ring, double ageMaxSeconds) {
+            return camera(name, ring.reader(), ageMaxSeconds);
         }
 
         /** Hears every transition, on weft's event thread. */
@@ -582,9 +608,14 @@ public final class Weft implements AutoCloseable {
                 for (int i = 0; i < joints; i++) {
                     names.add(limits.name(i));
                 }
+                List<String> cameraNames = new ArrayList<>();
+                for (ControlLoop.Camera c : cameras) {
+                    cameraNames.add(c.name());
+                }
+                int watched = cameras.size();
                 rec = CsvRecorder.open(TargetFile.resolve(telemetryFile, telemetryOverwrite), 1 << 14,
-                        telemetryDrainNanos, () -> new TelemetryRow(joints), new TelemetryFormat(names),
-                        "weft-telemetry");
+                        telemetryDrainNanos, () -> new TelemetryRow(joints, watched),
+                        new TelemetryFormat(names, cameraNames), "weft-telemetry");
             }
             try {
                 return build(joints, src, embedded, periodNanos, b, w, ws, inf, rec);
@@ -610,6 +641,7 @@ public final class Weft implements AutoCloseable {
                     pose -> Supervisor.builder(limits, period).stopCategory(stopCategory).maxArmingOffset(armingOffset)
                             .armingTimeoutTicks(timeoutTicks).armingRampTicks(rampTicks).listener(tl).build(pose),
                     stopCategory, port, rec);
+            loop.watchCameras(cameras);
             if (relay != null) {
                 loop.alarmListener(relay);
                 relay.details(loop::faultDetail);

@@ -2,7 +2,7 @@ package dev.weft.safety;
 
 /**
  * Cause codes of {@link Supervisor} transitions and refusals, each with a static message. Codes 1 to
- * 16 are the {@link WatchdogCondition} codes; the others are the supervisor's own.
+ * 17 are the {@link WatchdogCondition} codes; the others are the supervisor's own.
  */
 public final class Cause {
 

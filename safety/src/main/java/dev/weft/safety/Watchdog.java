@@ -149,6 +149,7 @@ public final class Watchdog {
         WatchdogCondition.NON_FINITE_OUTPUT,
         WatchdogCondition.PLAN_OUT_OF_RANGE,
         WatchdogCondition.STALE_OBSERVATION,
+        WatchdogCondition.FRAME_STALE,
         WatchdogCondition.LOOP_OVERRUNS,
         WatchdogCondition.INFERENCE_LATE,
         WatchdogCondition.PLAN_STARVED,

@@ -37,7 +37,9 @@ public enum WatchdogCondition {
     /** The observation holds NaN or an infinity. */
     NON_FINITE_OBSERVATION(15, "observation contained NaN or an infinity"),
     /** The loop did not complete a tick within the stall bound (raised by the loop's monitor thread). */
-    LOOP_STALLED(16, "control loop stalled: a tick did not complete in time");
+    LOOP_STALLED(16, "control loop stalled: a tick did not complete in time"),
+    /** A camera's latest frame is older than its bound, or no frame has come yet. */
+    FRAME_STALE(17, "a camera's latest frame is older than its bound");
 
     private static final WatchdogCondition[] BY_CODE = new WatchdogCondition[values().length + 1];
 
@@ -55,7 +57,7 @@ public enum WatchdogCondition {
         this.message = message;
     }
 
-    /** Code of this condition, 1 to 16; 0 is never used by a condition and means "none". */
+    /** Code of this condition, 1 to 17; 0 is never used by a condition and means "none". */
     public int code() {
         return code;
     }

@@ -150,6 +150,9 @@ public final class ControlLoop implements AutoCloseable {
     private final PolicyInput query;
     /** The observation stream's samples, kept per tick for the policy's history grids; null without grids. */
     private final SampleHistory history;
+    /** Watched cameras: each one's frame reader (the loop's own), its age bound, its latest age. */
+    private Camera[] cameras = new Camera[0];
+    private long[] frameAge = new long[0];
     /** Watchdog bits of the conditions the loop itself saw this tick, before the watchdog check. */
     private int reportedNow;
     /** Bits seen after the check (the command had gone out): reported at the next tick's check. */
@@ -524,6 +527,9 @@ public final class ControlLoop implements AutoCloseable {
             }
         }
         long obsAge = obsTime < 0 ? -1 : Math.max(0, start - obsTime);
+        if (cameras.length > 0) {
+            checkCameras(start);
+        }
 
         handleCommand(n, deadline);
 
@@ -701,6 +707,8 @@ public final class ControlLoop implements AutoCloseable {
                     for (int i = 0; i < joints; i++) {
                         row.jointFlags[i] = supervisor.limiterFlags(i);
                     }
+                    System.arraycopy(frameAge, 0, row.frameAgeNanos, 0, Math.min(frameAge.length,
+                            row.frameAgeNanos.length));
                     telemetry.publish();
                 }
             } catch (Throwable t) {
@@ -843,6 +851,56 @@ public final class ControlLoop implements AutoCloseable {
                 nonFiniteThisTick = true;
             } else if (r >= 0) {
                 newestOrigin = Math.max(newestOrigin, originTick);
+            }
+        }
+    }
+
+    /**
+     * A camera whose frames the loop watches: the age of its latest frame is checked every tick
+     * against {@code ageMaxNanos} (the frame-stale condition; no frame yet counts as stale) and
+     * recorded in telemetry. The reader must be the loop's own (readers are single-threaded); the
+     * loop only reads stamps, never copies a frame.
+     */
+    public record Camera(String name, dev.weft.runtime.source.SharedFrameReader reader, long ageMaxNanos) {
+        public Camera {
+            if (ageMaxNanos <= 0) {
+                throw new IllegalArgumentException("camera " + name + ": the age bound must be > 0 ns, got "
+                        + ageMaxNanos);
+            }
+        }
+    }
+
+    /** Cameras to watch from the first tick on; call before {@link #start} or {@link #prepare}. */
+    public void watchCameras(java.util.List<Camera> watched) {
+        if (running) {
+            throw new IllegalStateException("cameras are watched from the start of a run");
+        }
+        this.cameras = watched.toArray(new Camera[0]);
+        this.frameAge = new long[cameras.length];
+        java.util.Arrays.fill(frameAge, -1);
+    }
+
+    /** Step 1, cameras: each watched camera's latest frame age, and the frame-stale condition. */
+    private void checkCameras(long start) {
+        for (int i = 0; i < cameras.length; i++) {
+            Camera c = cameras[i];
+            long stamp;
+            try {
+                stamp = c.reader().peekStamp();
+            } catch (Throwable t) {
+                fault(WatchdogCondition.TICK_EXCEPTION, "camera " + c.name(), t);
+                continue;
+            }
+            long age = stamp < 0 ? -1 : Math.max(0, start - stamp);
+            frameAge[i] = age;
+            if (age < 0 || age > c.ageMaxNanos()) {
+                if (begins(WatchdogCondition.FRAME_STALE)) {
+                    detail(WatchdogCondition.FRAME_STALE, age < 0 ? "camera " + c.name() + ": no frame yet ("
+                            + c.reader().describe() + ")" : "camera " + c.name() + ": latest frame "
+                            + String.format(java.util.Locale.ROOT, "%.3f", age / 1e9) + " s old (bound "
+                            + String.format(java.util.Locale.ROOT, "%.3f", c.ageMaxNanos() / 1e9) + " s)");
+                }
+                reportedNow |= WatchdogCondition.FRAME_STALE.bit();
             }
         }
     }

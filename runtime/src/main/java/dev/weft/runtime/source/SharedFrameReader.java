@@ -73,6 +73,7 @@ public final class SharedFrameReader implements AutoCloseable {
     private long torn;
     private long lastNumber;
     private long lastStamp = -1;
+    private long peeked = -1;
 
     private SharedFrameReader(String name, FileChannel channel, ByteBuffer map, int slots, int height, int width,
                               int channels, int format, long stride) {
@@ -224,6 +225,31 @@ public final class SharedFrameReader implements AutoCloseable {
             return stamp;
         }
         return -1;
+    }
+
+    /**
+     * The time stamp of the latest finished frame, read without copying it (two acquire loads of
+     * the slot's sequence around the stamp's): for watching a camera's age on every tick. While the
+     * writer is in that slot, the stamp read before is given again.
+     *
+     * @return the stamp (ns, {@code CLOCK_MONOTONIC}), or −1 before the first frame
+     */
+    public long peekStamp() {
+        long k = (long) LONGS.getAcquire(map, 40);
+        if (k <= 0) {
+            return peeked;
+        }
+        int base = (int) (HEADER_BYTES + Long.remainderUnsigned(k, slots) * stride);
+        long before = (long) LONGS.getAcquire(map, base);
+        if (before != 2 * k) {
+            return peeked;
+        }
+        long stamp = (long) LONGS.getAcquire(map, base + 8);
+        long after = (long) LONGS.getAcquire(map, base);
+        if (after == before) {
+            peeked = stamp;
+        }
+        return peeked;
     }
 
     /** The frame number of the last frame copied (0 before the first). */

@@ -8,12 +8,15 @@ import java.util.List;
  *
  * <pre>
  * tick,time_s,period_error_us,compute_us,state,watchdog,limiter,plan_ticks,chunk_age_ticks,emitted,
- *   target.&lt;joint&gt;…,command.&lt;joint&gt;…,limiter.&lt;joint&gt;…
+ *   target.&lt;joint&gt;…,command.&lt;joint&gt;…,limiter.&lt;joint&gt;…[,frame_age_ms.&lt;camera&gt;…]
  * </pre>
  *
  * {@code state} is the supervisor state's name in lower case, {@code watchdog} the bit mask of the
  * conditions present (bit {@code code − 1}), {@code limiter} the or-ed limiter flags, {@code emitted}
- * 1 when the port accepted the frame, {@code limiter.<joint>} each joint's limiter flags. Values are written in Java's shortest round-trip form.
+ * 1 when the port accepted the frame, {@code limiter.<joint>} each joint's limiter flags,
+ * {@code frame_age_ms.<camera>} (only with watched cameras) the age of that camera's latest frame
+ * at the tick's start in milliseconds, −1 before its first frame. Values are written in Java's
+ * shortest round-trip form.
  */
 public final class TelemetryFormat implements CsvRecorder.Format<TelemetryRow> {
 
@@ -28,9 +31,16 @@ public final class TelemetryFormat implements CsvRecorder.Format<TelemetryRow> {
     }
 
     private final List<String> joints;
+    private final List<String> cameras;
 
     public TelemetryFormat(List<String> jointNames) {
+        this(jointNames, List.of());
+    }
+
+    /** With a frame-age column per watched camera, after the joints' columns. */
+    public TelemetryFormat(List<String> jointNames, List<String> cameraNames) {
         this.joints = List.copyOf(jointNames);
+        this.cameras = List.copyOf(cameraNames);
     }
 
     /**
@@ -52,6 +62,9 @@ public final class TelemetryFormat implements CsvRecorder.Format<TelemetryRow> {
         }
         for (String j : joints) {
             out.append(",limiter.").append(j);
+        }
+        for (String c : cameras) {
+            out.append(",frame_age_ms.").append(c);
         }
     }
 
@@ -75,6 +88,13 @@ public final class TelemetryFormat implements CsvRecorder.Format<TelemetryRow> {
         }
         for (int f : r.jointFlags) {
             out.append(',').append(f);
+        }
+        for (long age : r.frameAgeNanos) {
+            if (age < 0) {
+                out.append(",-1");
+            } else {
+                out.append(',').append(age / 1e6);
+            }
         }
     }
 }

@@ -30,10 +30,17 @@ public final class TelemetryRow {
     public final double[] command;
     /** The limiter's flags per joint ({@code dev.weft.safety.JerkLimiter} bits). */
     public final int[] jointFlags;
+    /** Per watched camera, the age of its latest frame at the tick's start, nanoseconds; −1 before its first frame. */
+    public final long[] frameAgeNanos;
 
     public TelemetryRow(int joints) {
+        this(joints, 0);
+    }
+
+    public TelemetryRow(int joints, int cameras) {
         target = new double[joints];
         command = new double[joints];
         jointFlags = new int[joints];
+        frameAgeNanos = new long[cameras];
     }
 }

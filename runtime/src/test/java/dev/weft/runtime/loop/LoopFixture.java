@@ -47,6 +47,8 @@ final class LoopFixture {
     long latencyTicks = 3;
     int stallPeriods = LoopSettings.DEFAULT_STALL_PERIODS;
     double planRangeSlack = 0.0;
+    /** Cameras the telemetry has a frame-age column for (watch them with {@link ControlLoop#watchCameras}). */
+    List<String> cameraNames = List.of();
 
     JointLimits limits() {
         JointLimits.Builder b = JointLimits.builder();
@@ -101,8 +103,8 @@ final class LoopFixture {
                     ? CsvRecorder.openStraightForTests(telemetryFile, 1 << 12, CsvRecorder.DEFAULT_DRAIN_TIMEOUT_NANOS,
                             () -> new TelemetryRow(joints), new TelemetryFormat(names()), "test-telemetry")
                     : CsvRecorder.open(TargetFile.resolve(telemetryFile, true), 1 << 12,
-                            CsvRecorder.DEFAULT_DRAIN_TIMEOUT_NANOS, () -> new TelemetryRow(joints),
-                            new TelemetryFormat(names()), "test-telemetry");
+                            CsvRecorder.DEFAULT_DRAIN_TIMEOUT_NANOS, () -> new TelemetryRow(joints, cameraNames.size()),
+                            new TelemetryFormat(names(), cameraNames), "test-telemetry");
         }
         port.open(joints);
         JointLimits limits = limits();

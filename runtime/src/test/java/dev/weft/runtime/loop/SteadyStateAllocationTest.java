@@ -18,7 +18,8 @@ import org.junit.jupiter.api.io.TempDir;
 
 /**
  * Invariant 3: the steady-state tick allocates nothing. The loop's ticks run on this test's
- * thread with an ONNX policy (a state input and a history grid) on a real inference worker thread and the telemetry recorder
+ * thread with an ONNX policy (a state input and a history grid) on a real inference worker thread,
+ * a watched camera whose frames are offered on the loop thread every 16 ticks, and the telemetry recorder
  * running; the thread's allocated-byte counter is read before and after 100,000 ticks.
  *
  * <p>A window of 100,000 ticks is measured up to three times. An allocation of the tick itself
@@ -52,16 +53,26 @@ class SteadyStateAllocationTest {
         f.joints = joints;
         f.range = 3.0;
         Inference[] worker = new Inference[1];
+        // a watched camera, its frames offered every 16 ticks on the loop thread itself: the loop's
+        // frame-age check and the offer are both measured
+        dev.weft.runtime.source.FrameRing camera = new dev.weft.runtime.source.FrameRing("top", 3, 48, 64, 3,
+                dev.weft.runtime.source.SharedFrameReader.RGB8);
+        java.nio.ByteBuffer frame = java.nio.ByteBuffer.allocateDirect(camera.frameBytes());
+        long[] waits = {0};
         f.wait = (clock, deadline) -> {
             while (worker[0] != null && !worker[0].idle()) {
                 Thread.onSpinWait();
             }
             ((ManualClock) clock).advanceTo(deadline);
+            if (waits[0]++ % 16 == 0) {
+                camera.offer(deadline, frame, 0);
+            }
         };
         f.latencyTicks = -1;
         f.telemetryFile = dir.resolve("telemetry.csv");
         ControlLoop loop = f.build(policy);
         worker[0] = f.worker;
+        loop.watchCameras(java.util.List.of(new ControlLoop.Camera("top", camera.reader(), 100_000_000L)));
         loop.prepare();
         for (int i = 0; i < 2_000; i++) {
             loop.runTick();

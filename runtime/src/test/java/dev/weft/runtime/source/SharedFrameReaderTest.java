@@ -152,6 +152,65 @@ class SharedFrameReaderTest {
     }
 
     @Test
+    @Timeout(120)
+    void aWatchedCameraFromAnotherProcessHasItsFrameAgeInTelemetryAndIsStaleOnceTheWriterStops() throws Exception {
+        int h = 480;
+        int w = 640;
+        Path file = dir.resolve("wrist.frames");
+        Process p = writer(file, 3, h, w, 3, 30, 2.5);
+        Path telemetry = dir.resolve("telemetry.csv");
+        dev.weft.safety.JointLimits limits = dev.weft.safety.JointLimits.builder()
+                .joint("pan", -1, 1, 1, 10, 100).joint("tilt", -1, 1, 1, 10, 100).build();
+        dev.weft.runtime.policy.Policy hold = new dev.weft.runtime.policy.Policy() {
+            public int observationSize() { return 2; }
+            public int chunkLength() { return 10; }
+            public int actionSize() { return 2; }
+            public void infer(double[] o, long t, double[] c) { java.util.Arrays.fill(c, 0.0); }
+            public void close() { }
+        };
+        try (SharedFrameReader r = openWhenThere(file, h, w, 3, p);
+             dev.weft.runtime.Weft weft = dev.weft.runtime.Weft.builder(limits, 0.002).policy(hold)
+                     .port(new dev.weft.runtime.port.NullPort()).telemetry(telemetry).stallPeriods(50)
+                     .camera("wrist", r, 0.1).build()) {
+            java.util.concurrent.atomic.AtomicBoolean driving = new java.util.concurrent.atomic.AtomicBoolean(true);
+            Thread driver = new Thread(() -> {
+                while (driving.get()) {
+                    weft.offer(System.nanoTime(), new double[2]);
+                    LockSupport.parkNanos(2_000_000);
+                }
+            }, "test-driver");
+            driver.start();
+            weft.start();
+            p.waitFor(30, TimeUnit.SECONDS);
+            Thread.sleep(600);
+            driving.set(false);
+            driver.join();
+            weft.close();
+        } finally {
+            p.destroy();
+        }
+        java.util.List<String> rows = Files.readAllLines(telemetry);
+        String[] header = rows.get(0).split(",");
+        assertThat(header[header.length - 1]).isEqualTo("frame_age_ms.wrist");
+        java.util.List<Double> flowing = new java.util.ArrayList<>();
+        String[] last = rows.get(rows.size() - 1).split(",");
+        for (String row : rows.subList(1, rows.size())) {
+            double age = Double.parseDouble(row.substring(row.lastIndexOf(',') + 1));
+            if (age >= 0 && age < 1000) {
+                flowing.add(age);
+            }
+        }
+        java.util.Collections.sort(flowing);
+        // while the writer ran (30 Hz): a median age of about half a frame period; bounds loose for a
+        // loaded machine
+        assertThat(flowing).hasSizeGreaterThan(200);
+        assertThat(flowing.get(flowing.size() / 2)).isLessThan(40.0);
+        // after it stopped: the last frame ages past the bound, and the watchdog column shows it
+        assertThat(Double.parseDouble(last[last.length - 1])).isGreaterThan(300.0);
+        assertThat(Integer.parseInt(last[5]) & dev.weft.safety.WatchdogCondition.FRAME_STALE.bit()).isNotZero();
+    }
+
+    @Test
     void aFileThatDoesNotFitIsRefusedNamingTheHeaderField() throws Exception {
         Path file = dir.resolve("small.frames");
         ByteBuffer b = ByteBuffer.allocate(64 + 64 + 64 * 48 * 3).order(ByteOrder.LITTLE_ENDIAN);

@@ -1,0 +1,115 @@
+package dev.weft.runtime.loop;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import dev.weft.runtime.source.FrameRing;
+import dev.weft.runtime.source.SharedFrameReader;
+import dev.weft.safety.SupervisorState;
+import dev.weft.safety.WatchdogCondition;
+import java.nio.ByteBuffer;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.List;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * A watched camera on virtual time: its frame age is in every telemetry row, arming waits for its
+ * first frame, and a camera that stops stops the robot once its latest frame is older than the
+ * bound, with its own cause.
+ */
+class CameraWatchTest {
+
+    private static final long MS = 1_000_000L;
+    /** 30 Hz frames. */
+    private static final long FRAME_NANOS = 33_333_333L;
+    private static final long BOUND = 100 * MS;
+
+    @TempDir
+    Path dir;
+
+    @Test
+    void aCameraThatStopsStopsTheRobotOnceItsFrameIsOlderThanTheBound() throws Exception {
+        LoopFixture f = new LoopFixture();
+        f.telemetryFile = dir.resolve("telemetry.csv");
+        FrameRing ring = new FrameRing("wrist", 3, 12, 16, 3, SharedFrameReader.RGB8);
+        ByteBuffer frame = ByteBuffer.allocateDirect(ring.frameBytes());
+        f.cameraNames = List.of("wrist");
+        ControlLoop loop = f.build(LoopFixture.constantGoal(3, 16, 0.2));
+        loop.watchCameras(List.of(new ControlLoop.Camera("wrist", ring.reader(), BOUND)));
+        loop.prepare();
+        ManualClock clock = (ManualClock) f.clock;
+        // no frame yet: the condition is present and arming is refused
+        for (int n = 0; n < 20; n++) {
+            loop.runTick();
+        }
+        assertThat(loop.status().watchdogMask() & WatchdogCondition.FRAME_STALE.bit()).isNotZero();
+        int[] refused = {0};
+        Thread armer = new Thread(() -> refused[0] = loop.arm(5_000_000_000L));
+        armer.start();
+        while (armer.isAlive()) {
+            loop.runTick();
+        }
+        assertThat(refused[0]).as("arming without a camera frame").isNotZero();
+        // frames at 30 Hz from now on, until the camera stops after 2 s
+        long next = clock.nanoTime();
+        long stopAt = clock.nanoTime() + 2_000 * MS;
+        boolean armed = false;
+        boolean sawArmed = false;
+        long stoppedTick = -1;
+        long lastFrame = -1;
+        for (int n = 0; n < 2_500; n++) {
+            long now = clock.nanoTime();
+            if (now >= next && now < stopAt) {
+                ring.offer(now, frame, 0);
+                lastFrame = now;
+                next += FRAME_NANOS;
+            }
+            if (!armed && n == 50) {
+                Thread a = new Thread(() -> loop.arm(5_000_000_000L));
+                a.start();
+                while (a.isAlive()) {
+                    loop.runTick();
+                }
+                armed = true;
+            }
+            loop.runTick();
+            SupervisorState st = loop.supervisor().state();
+            sawArmed |= st == SupervisorState.ARMED;
+            if (stoppedTick < 0 && armed && (st == SupervisorState.STOPPING || st == SupervisorState.FAULTED)) {
+                stoppedTick = loop.status().ticks();
+                // the stop starts at the first tick whose latest frame is older than the bound
+                long age = clock.nanoTime() - lastFrame;
+                assertThat(age).isGreaterThan(BOUND).isLessThanOrEqualTo(BOUND + 2 * LoopFixture.PERIOD_NANOS);
+                assertThat(clock.nanoTime()).isGreaterThan(stopAt);
+            }
+        }
+        assertThat(sawArmed).as("armed while the camera's frames came").isTrue();
+        assertThat(stoppedTick).as("the robot was stopped; state %s, cause %d", loop.supervisor().state(),
+                loop.supervisor().latchedCause()).isPositive();
+        assertThat(loop.supervisor().state()).isEqualTo(SupervisorState.FAULTED);
+        assertThat(loop.supervisor().latchedCause()).isEqualTo(WatchdogCondition.FRAME_STALE.code());
+        assertThat(loop.faultDetail(WatchdogCondition.FRAME_STALE.code()))
+                .startsWith("camera wrist: latest frame 0.10").endsWith(" s old (bound 0.100 s)");
+        f.telemetry.close();
+        // the telemetry's frame-age column: -1 before the first frame, then under one frame period
+        // (plus a tick) while frames come, growing after the camera stopped
+        List<String> rows = Files.readAllLines(f.telemetryFile);
+        String[] header = rows.get(0).split(",");
+        assertThat(header[header.length - 1]).isEqualTo("frame_age_ms.wrist");
+        assertThat(rows.get(1)).endsWith(",-1");
+        double worstWhileFlowing = 0;
+        double last = 0;
+        for (String row : rows.subList(200, rows.size())) {
+            String[] v = row.split(",");
+            double t = Double.parseDouble(v[1]);
+            double age = Double.parseDouble(v[v.length - 1]);
+            if (t < 1.5) {
+                worstWhileFlowing = Math.max(worstWhileFlowing, age);
+            }
+            last = age;
+        }
+        assertThat(worstWhileFlowing).isGreaterThan(20).isLessThanOrEqualTo(33.4 + 2);
+        assertThat(last).isGreaterThan(100);
+    }
+}
