@@ -52,34 +52,39 @@ class CameraWatchTest {
         }
         assertThat(refused[0]).as("arming without a camera frame").isNotZero();
         // frames at 30 Hz from now on, until the camera stops after 2 s
-        long next = clock.nanoTime();
         long stopAt = clock.nanoTime() + 2_000 * MS;
+        // the camera: a frame whenever 1/30 s has passed, until it stops (also during the ticks run
+        // while an arm request is carried out)
+        long[] next = {clock.nanoTime()};
+        long[] lastFrame = {-1};
+        Runnable tick = () -> {
+            long now = clock.nanoTime();
+            if (now >= next[0] && now < stopAt) {
+                ring.offer(now, frame, 0);
+                lastFrame[0] = now;
+                next[0] += FRAME_NANOS;
+            }
+            loop.runTick();
+        };
         boolean armed = false;
         boolean sawArmed = false;
         long stoppedTick = -1;
-        long lastFrame = -1;
         for (int n = 0; n < 2_500; n++) {
-            long now = clock.nanoTime();
-            if (now >= next && now < stopAt) {
-                ring.offer(now, frame, 0);
-                lastFrame = now;
-                next += FRAME_NANOS;
-            }
             if (!armed && n == 50) {
                 Thread a = new Thread(() -> loop.arm(5_000_000_000L));
                 a.start();
                 while (a.isAlive()) {
-                    loop.runTick();
+                    tick.run();
                 }
                 armed = true;
             }
-            loop.runTick();
+            tick.run();
             SupervisorState st = loop.supervisor().state();
             sawArmed |= st == SupervisorState.ARMED;
             if (stoppedTick < 0 && armed && (st == SupervisorState.STOPPING || st == SupervisorState.FAULTED)) {
                 stoppedTick = loop.status().ticks();
                 // the stop starts at the first tick whose latest frame is older than the bound
-                long age = clock.nanoTime() - lastFrame;
+                long age = clock.nanoTime() - lastFrame[0];
                 assertThat(age).isGreaterThan(BOUND).isLessThanOrEqualTo(BOUND + 2 * LoopFixture.PERIOD_NANOS);
                 assertThat(clock.nanoTime()).isGreaterThan(stopAt);
             }
