@@ -141,6 +141,7 @@ class SharedFrameReaderTest {
                 if (r.latest(frame) >= 0 && firstWrongByte(frame, r.frameBytes(), r.lastFrameNumber()) >= 0) {
                     corrupt++;
                 }
+                LockSupport.parkNanos(300_000);
             }
             assertThat(p.exitValue()).isZero();
             assertThat(r.frames()).isGreaterThan(20);

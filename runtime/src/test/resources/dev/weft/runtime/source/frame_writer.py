@@ -8,8 +8,8 @@ on Linux).
 
 Usage: frame_writer.py FILE SLOTS HEIGHT WIDTH CHANNELS RATE_HZ SECONDS
   RATE_HZ 0 writes back to back, holding each slot "being written" for 2 ms (a slow write) and
-  pausing 1 ms after each frame, so that a reader finds the finished frame at times and meets
-  the writer in the slot at others, whatever else the machine is doing.
+  pausing 0.2 ms after each frame: with one slot, a reader that finds a new frame number mostly
+  finds the slot already being rewritten, and now and then finds it finished.
 """
 import struct
 import sys
@@ -58,7 +58,7 @@ def main():
             if pause > 0:
                 time.sleep(pause)
         else:
-            time.sleep(0.001)
+            time.sleep(0.0002)
     print(k)
 
 
