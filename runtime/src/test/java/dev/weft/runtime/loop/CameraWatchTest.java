@@ -67,15 +67,19 @@ class CameraWatchTest {
             loop.runTick();
         };
         boolean armed = false;
+        int[] armResult = {-99};
         boolean sawArmed = false;
         long stoppedTick = -1;
         for (int n = 0; n < 2_500; n++) {
             if (!armed && n == 50) {
-                Thread a = new Thread(() -> loop.arm(5_000_000_000L));
+                Thread a = new Thread(() -> armResult[0] = loop.arm(5_000_000_000L));
                 a.start();
-                while (a.isAlive()) {
+                // tick only until the request is carried out, however slowly the requesting thread
+                // is scheduled: the loop's reply is in by then, and joining needs no more ticks
+                while (a.isAlive() && loop.supervisor().state() == SupervisorState.DISARMED) {
                     tick.run();
                 }
+                a.join();
                 armed = true;
             }
             tick.run();
@@ -89,7 +93,9 @@ class CameraWatchTest {
                 assertThat(clock.nanoTime()).isGreaterThan(stopAt);
             }
         }
-        assertThat(sawArmed).as("armed while the camera's frames came").isTrue();
+        assertThat(sawArmed).as("armed while the camera's frames came; arm gave %d (%s), state %s, transitions %d",
+                armResult[0], dev.weft.safety.Cause.message(armResult[0]), loop.supervisor().state(),
+                f.transitions.size()).isTrue();
         assertThat(stoppedTick).as("the robot was stopped; state %s, cause %d", loop.supervisor().state(),
                 loop.supervisor().latchedCause()).isPositive();
         assertThat(loop.supervisor().state()).isEqualTo(SupervisorState.FAULTED);
