@@ -891,6 +891,20 @@ public final class ControlLoop implements AutoCloseable {
                 fault(WatchdogCondition.TICK_EXCEPTION, "camera " + c.name(), t);
                 continue;
             }
+            long ahead = stamp < 0 ? 0 : stamp - start;
+            if (ahead > settings.observationAheadMaxNanos()
+                    && (ahead = stamp - clock.nanoTime()) > settings.observationAheadMaxNanos()) {
+                // stamped in another clock domain (wall-clock epoch time, say): its age would read 0
+                // for ever, so a camera that stops would never be seen stale
+                frameAge[i] = -1;
+                if (begins(WatchdogCondition.FRAME_STALE)) {
+                    detail(WatchdogCondition.FRAME_STALE, "camera " + c.name() + ": the latest frame is stamped "
+                            + String.format(java.util.Locale.ROOT, "%.3f", ahead / 1e6) + " ms ahead of the loop"
+                            + " clock: the camera must stamp frames with CLOCK_MONOTONIC (System.nanoTime)");
+                }
+                reportedNow |= WatchdogCondition.FRAME_STALE.bit();
+                continue;
+            }
             long age = stamp < 0 ? -1 : Math.max(0, start - stamp);
             frameAge[i] = age;
             if (age < 0 || age > c.ageMaxNanos()) {

@@ -29,6 +29,24 @@ class CameraWatchTest {
     Path dir;
 
     @Test
+    void aFrameStampedInAnotherClockDomainIsStaleNotForeverFresh() throws Exception {
+        LoopFixture f = new LoopFixture();
+        FrameRing ring = new FrameRing("top", 2, 4, 4, 1, SharedFrameReader.GREY8);
+        ControlLoop loop = f.build(LoopFixture.constantGoal(3, 16, 0.2));
+        loop.watchCameras(List.of(new ControlLoop.Camera("top", ring.reader(), BOUND)));
+        loop.prepare();
+        // wall-clock epoch nanoseconds: decades ahead of the loop's monotonic clock
+        ring.offer(1_764_000_000_000_000_000L, ByteBuffer.allocateDirect(16), 0);
+        for (int n = 0; n < 5; n++) {
+            loop.runTick();
+        }
+        assertThat(loop.status().watchdogMask() & WatchdogCondition.FRAME_STALE.bit()).isNotZero();
+        assertThat(loop.faultDetail(WatchdogCondition.FRAME_STALE.code()))
+                .startsWith("camera top: the latest frame is stamped ")
+                .endsWith(" ms ahead of the loop clock: the camera must stamp frames with CLOCK_MONOTONIC (System.nanoTime)");
+    }
+
+    @Test
     void aCameraThatStopsStopsTheRobotOnceItsFrameIsOlderThanTheBound() throws Exception {
         LoopFixture f = new LoopFixture();
         f.telemetryFile = dir.resolve("telemetry.csv");
