@@ -55,32 +55,22 @@ class CameraWatchTest {
         FrameRing ring = new FrameRing("wrist", 3, 12, 16, 3, SharedFrameReader.RGB8);
         ByteBuffer frame = ByteBuffer.allocateDirect(ring.frameBytes());
         f.cameraNames = List.of("wrist");
+        f.armWhenPlanned = true;
         ControlLoop loop = f.build(LoopFixture.constantGoal(3, 16, 0.2));
         loop.watchCameras(List.of(new ControlLoop.Camera("wrist", ring.reader(), BOUND)));
         loop.prepare();
         ManualClock clock = (ManualClock) f.clock;
-        // no frame yet: the condition is present and arming is refused
-        for (int n = 0; n < 20; n++) {
-            loop.runTick();
-        }
-        assertThat(loop.status().watchdogMask() & WatchdogCondition.FRAME_STALE.bit()).isNotZero();
-        int[] refused = {0};
-        Thread armer = new Thread(() -> refused[0] = loop.arm(5_000_000_000L));
-        armer.start();
-        while (armer.isAlive()) {
-            loop.runTick();
-        }
-        assertThat(refused[0]).as("arming without a camera frame").isNotZero();
-        // however long the request took to be carried out, the camera starts several virtual
-        // seconds into the run (the telemetry check below must not depend on it)
+        // no frame yet: the condition is present, and the loop, which arms by itself at the first
+        // planned tick free of watchdog conditions, stays disarmed (6 virtual seconds)
         for (int n = 0; n < 3_000; n++) {
             loop.runTick();
         }
-        // frames at 30 Hz from now on, until the camera stops after 2 s
-        long stopAt = clock.nanoTime() + 2_000 * MS;
+        assertThat(loop.status().watchdogMask() & WatchdogCondition.FRAME_STALE.bit()).isNotZero();
+        assertThat(loop.supervisor().state()).as("arming waits for the camera").isEqualTo(SupervisorState.DISARMED);
+        assertThat(loop.faultDetail(WatchdogCondition.FRAME_STALE.code())).startsWith("camera wrist: no frame yet");
+        // frames at 30 Hz from now on, until the camera stops after 4 s
+        long stopAt = clock.nanoTime() + 4_000 * MS;
         long firstFrame = clock.nanoTime();
-        // the camera: a frame whenever 1/30 s has passed, until it stops (also during the ticks run
-        // while an arm request is carried out)
         long[] next = {clock.nanoTime()};
         long[] lastFrame = {-1};
         Runnable tick = () -> {
@@ -92,33 +82,13 @@ class CameraWatchTest {
             }
             loop.runTick();
         };
-        boolean armed = false;
-        int[] armResult = {-99};
-        StringBuilder refusals = new StringBuilder();
         boolean sawArmed = false;
         long stoppedTick = -1;
-        for (int n = 0; n < 2_500; n++) {
-            if (!armed && n >= 50 && n % 10 == 0) {
-                Thread a = new Thread(() -> armResult[0] = loop.arm(5_000_000_000L));
-                a.start();
-                // tick only until the request is carried out, however slowly the requesting thread
-                // is scheduled: the loop's reply is in by then, and joining needs no more ticks
-                while (a.isAlive() && loop.supervisor().state() == SupervisorState.DISARMED) {
-                    tick.run();
-                }
-                a.join();
-                // a refusal (a condition present at that tick) is asked again ten ticks later
-                armed = armResult[0] == 0;
-                if (!armed) {
-                    refusals.append(armResult[0]).append(" with watchdog mask ")
-                            .append(loop.status().watchdogMask()).append(" at tick ").append(loop.status().ticks())
-                            .append("; ");
-                }
-            }
+        for (int n = 0; n < 3_500; n++) {
             tick.run();
             SupervisorState st = loop.supervisor().state();
             sawArmed |= st == SupervisorState.ARMED;
-            if (stoppedTick < 0 && armed && (st == SupervisorState.STOPPING || st == SupervisorState.FAULTED)) {
+            if (stoppedTick < 0 && sawArmed && (st == SupervisorState.STOPPING || st == SupervisorState.FAULTED)) {
                 stoppedTick = loop.status().ticks();
                 // the stop starts at the first tick whose latest frame is older than the bound
                 long age = clock.nanoTime() - lastFrame[0];
@@ -126,9 +96,9 @@ class CameraWatchTest {
                 assertThat(clock.nanoTime()).isGreaterThan(stopAt);
             }
         }
-        assertThat(sawArmed).as("armed while the camera's frames came; arm gave %d (%s), state %s, refusals %s",
-                armResult[0], dev.weft.safety.Cause.message(armResult[0]), loop.supervisor().state(), refusals)
-                .isTrue();
+        assertThat(loop.autoArmResult()).as("the loop armed by itself once frames came").isZero();
+        assertThat(sawArmed).as("armed while the camera's frames came; state %s, latched cause %d",
+                loop.supervisor().state(), loop.supervisor().latchedCause()).isTrue();
         assertThat(stoppedTick).as("the robot was stopped; state %s, cause %d", loop.supervisor().state(),
                 loop.supervisor().latchedCause()).isPositive();
         assertThat(loop.supervisor().state()).isEqualTo(SupervisorState.FAULTED);

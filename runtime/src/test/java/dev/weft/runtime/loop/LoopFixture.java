@@ -49,6 +49,8 @@ final class LoopFixture {
     double planRangeSlack = 0.0;
     /** Cameras the telemetry has a frame-age column for (watch them with {@link ControlLoop#watchCameras}). */
     List<String> cameraNames = List.of();
+    /** Arm by itself at the first planned tick free of watchdog conditions (deterministic, no arming thread). */
+    boolean armWhenPlanned = false;
 
     JointLimits limits() {
         JointLimits.Builder b = JointLimits.builder();
@@ -109,7 +111,8 @@ final class LoopFixture {
         port.open(joints);
         JointLimits limits = limits();
         LoopSettings settings = new LoopSettings(periodNanos, queryEvery, LoopSettings.leadingPositions(joints), maxTicks,
-                2_000_000_000L, 2_000_000_000L, false, LoopSettings.DEFAULT_OBSERVATION_AHEAD_MAX_NANOS, planRangeSlack,
+                2_000_000_000L, 2_000_000_000L, armWhenPlanned, LoopSettings.DEFAULT_OBSERVATION_AHEAD_MAX_NANOS,
+                planRangeSlack,
                 stallPeriods);
         return new ControlLoop(clock, wait, settings, source, worker, blender, null, watchdog,
                 pose -> Supervisor.builder(limits, period).maxArmingOffset(range).listener(transitions).build(pose),
