@@ -499,11 +499,8 @@ public final class ControlLoop implements AutoCloseable {
             fault(WatchdogCondition.TICK_EXCEPTION, "observation source", t);
         }
         boolean usable = obsTime >= 0;
-        // compared with the clock read after the source answered: a source that stamps with the
-        // loop's clock while it answers may be later than the tick's start by a preemption
-        long ahead;
-        if (usable && obsTime - start > settings.observationAheadMaxNanos()
-                && (ahead = obsTime - clock.nanoTime()) > settings.observationAheadMaxNanos()) {
+        long ahead = usable ? lead(obsTime, start) : 0;
+        if (ahead > 0) {
             usable = false;
             if (begins(WatchdogCondition.OBSERVATION_AHEAD)) {
                 detail(WatchdogCondition.OBSERVATION_AHEAD, "the observation is stamped "
@@ -880,6 +877,20 @@ public final class ControlLoop implements AutoCloseable {
         java.util.Arrays.fill(frameAge, -1);
     }
 
+    /**
+     * How far a time stamp lies ahead of the loop's clock when that is beyond the tolerance, else 0.
+     * Compared with the clock read again after the stamp was read: a source stamping with the loop's
+     * clock while it answers may be later than the tick's start by a preemption.
+     */
+    private long lead(long stamp, long start) {
+        long tolerance = settings.observationAheadMaxNanos();
+        if (stamp - start <= tolerance) {
+            return 0;
+        }
+        long ahead = stamp - clock.nanoTime();
+        return ahead > tolerance ? ahead : 0;
+    }
+
     /** Step 1, cameras: each watched camera's latest frame age, and the frame-stale condition. */
     private void checkCameras(long start) {
         for (int i = 0; i < cameras.length; i++) {
@@ -891,9 +902,8 @@ public final class ControlLoop implements AutoCloseable {
                 fault(WatchdogCondition.TICK_EXCEPTION, "camera " + c.name(), t);
                 continue;
             }
-            long ahead = stamp < 0 ? 0 : stamp - start;
-            if (ahead > settings.observationAheadMaxNanos()
-                    && (ahead = stamp - clock.nanoTime()) > settings.observationAheadMaxNanos()) {
+            long ahead = stamp < 0 ? 0 : lead(stamp, start);
+            if (ahead > 0) {
                 // stamped in another clock domain (wall-clock epoch time, say): its age would read 0
                 // for ever, so a camera that stops would never be seen stale
                 frameAge[i] = -1;
