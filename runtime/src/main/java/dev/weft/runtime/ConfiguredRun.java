@@ -256,6 +256,7 @@ public final class ConfiguredRun {
     public Weft.Builder builder(Policy policy, CommandPort port, dev.weft.runtime.loop.LoopClock clock, double[] initialPose)
             throws BadInputException {
         Weft.Builder b = builderWithoutSource(policy, port);
+        watchCameras(b);
         ObservationSource source = source(policy, port, clock, initialPose);
         if (source != null) {
             b.source(source);
@@ -265,6 +266,36 @@ public final class ConfiguredRun {
             sp.attach(initialPose != null ? initialPose : restPose(), config.timing().controlPeriod());
         }
         return b;
+    }
+
+    /**
+     * Watches every configured camera whose frames come from a shared-memory frame file (the file
+     * is mapped and its header checked now); a camera with {@code source: {kind: embedded}} is left
+     * to the embedding program, which gives its {@code FrameRing} with
+     * {@link Weft.Builder#camera(String, dev.weft.runtime.source.FrameRing, double)}.
+     *
+     * @throws BadInputException naming {@code cameras.<name>} when a camera has no live source, or
+     *     its frame file is missing or does not fit
+     */
+    public void watchCameras(Weft.Builder b) throws BadInputException {
+        for (dev.weft.runtime.config.CameraConfig c : config.cameras()) {
+            if (c.embedded()) {
+                continue;
+            }
+            if (c.frameFile().isEmpty()) {
+                throw new BadInputException("cameras." + c.name(), "has no source: a live run reads frames from"
+                        + " source: {kind: shared_memory, file: ...} or, in an embedding program, {kind: embedded}");
+            }
+            dev.weft.runtime.source.SharedFrameReader reader = dev.weft.runtime.source.SharedFrameReader.open(
+                    c.frameFile().get(), c.height(), c.width(), c.channels());
+            if (reader.pixelFormat() != c.pixelFormat().ordinal()) {
+                reader.close();
+                throw new BadInputException("cameras." + c.name() + ".pixel_format", "is " + c.pixelFormat().label()
+                        + ", the frame file " + c.frameFile().get() + " says pixel format " + reader.pixelFormat()
+                        + " (0 rgb8, 1 bgr8, 2 grey8)");
+            }
+            b.camera(c.name(), reader, c.ageMax());
+        }
     }
 
     /**

@@ -456,9 +456,11 @@ public final class Weft implements AutoCloseable {
          * any frame ring): every tick the age of its latest frame is checked against
          * {@code ageMaxSeconds} (the frame-stale condition stops the robot; no frame yet counts as
          * stale, so arming waits for the camera) and recorded in telemetry as
-         * {@code frame_age_ms.<name>}. The reader becomes the loop's own.
+         * {@code frame_age_ms.<name>}. The reader becomes the loop's own; a policy that reads this
+         * camera ({@link Policy#cameras()}) is given a {@linkplain dev.weft.runtime.image.FrameSource#sibling()
+         * sibling} of it, read on the inference thread.
          */
-        public Builder camera(String name, dev.weft.runtime.source.SharedFrameReader reader, double ageMaxSeconds) {
+        public Builder camera(String name, dev.weft.runtime.image.FrameSource reader, double ageMaxSeconds) {
             if (!(ageMaxSeconds > 0 && ageMaxSeconds < Double.POSITIVE_INFINITY)) {
                 throw new IllegalArgumentException("camera " + name + ": the age bound must be > 0 s, got " + ageMaxSeconds);
             }
@@ -471,7 +473,7 @@ public final class Weft implements AutoCloseable {
             return this;
         }
 
-        /** As {@link #camera(String, dev.weft.runtime.source.SharedFrameReader, double)}, for frames offered in this process. */
+        /** As {@link #camera(String, dev.weft.runtime.image.FrameSource, double)}, for frames offered in this process. */
         public Builder camera(String name, dev.weft.runtime.source.FrameRing ring, double ageMaxSeconds) {
             return camera(name, ring.reader(), ageMaxSeconds);
         }
@@ -583,6 +585,20 @@ public final class Weft implements AutoCloseable {
                 throw new IllegalArgumentException("the policy's actions are " + onnx.actionRepresentation().label()
                         + ", offsets from the observation's first " + joints + " values, but the position index "
                         + java.util.Arrays.toString(positionIndex) + " reads the joint positions elsewhere");
+            }
+            for (String name : policy.cameras()) {
+                ControlLoop.Camera watched = null;
+                for (ControlLoop.Camera c : cameras) {
+                    if (c.name().equals(name)) {
+                        watched = c;
+                    }
+                }
+                if (watched == null) {
+                    throw new IllegalArgumentException("the policy reads camera " + name
+                            + ", which the run does not watch; give it with camera(\"" + name + "\", ...)");
+                }
+                // the loop keeps its reader (ages only); the inference thread copies frames with its own
+                policy.attachFrames(name, watched.reader().sibling());
             }
             long periodNanos = Math.round(period * 1e9);
             ChunkBlender b = blender != null ? blender

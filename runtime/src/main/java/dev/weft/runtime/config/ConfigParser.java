@@ -6,7 +6,9 @@ import dev.weft.runtime.BadInputException;
 import dev.weft.runtime.config.TreeReader.Section;
 import dev.weft.runtime.policy.ActionRepresentation;
 import dev.weft.runtime.policy.ChunkLayout;
+import dev.weft.runtime.image.ImagePreprocessor;
 import dev.weft.runtime.policy.InputBinding;
+import dev.weft.runtime.recording.PixelFormat;
 import dev.weft.runtime.policy.NormalisationSpec;
 import dev.weft.runtime.policy.OutputSpec;
 import dev.weft.runtime.policy.PolicySpec;
@@ -74,6 +76,7 @@ final class ConfigParser {
         }
         RobotConfig robot = robot(root.section("robot", true));
         TimingConfig timing = timing(root.section("timing", true));
+        List<CameraConfig> cameras = cameras(root.section("cameras", false), root.has("cameras"));
         PolicySpec policy = policy(root.section("policy", true));
         BlendingConfig blending = blending(root.section("blending", false), root.has("blending"));
         SmoothingConfig smoothing = smoothing(root.section("smoothing", false), root.has("smoothing"));
@@ -88,7 +91,7 @@ final class ConfigParser {
         recordingChecks();
         crossChecks();
         r.finish();
-        return new WeftConfig(robot, timing, policy, blending, smoothing, watchdog, arming, source, port, telemetry,
+        return new WeftConfig(robot, timing, cameras, policy, blending, smoothing, watchdog, arming, source, port, telemetry,
                 recording, gates);
     }
 
@@ -255,6 +258,151 @@ final class ConfigParser {
         return new PolicySpec(model, observationSize, inputs, output, session, normalisation);
     }
 
+    // ---- cameras
+
+    /** The cameras by name, for the policy's camera inputs (read before the policy). */
+    private final Map<String, CameraConfig> camerasByName = new LinkedHashMap<>();
+    /** Whether {@code cameras} was given but did not read: camera inputs are then not checked against it. */
+    private boolean camerasBroken;
+
+    private List<CameraConfig> cameras(Section s, boolean given) {
+        if (s == null) {
+            camerasBroken = given;
+            return given ? null : List.of();
+        }
+        int before = r.count();
+        List<CameraConfig> out = new ArrayList<>();
+        if (s.keys().isEmpty()) {
+            r.add(s.path(), "must name at least one camera, or be left out");
+        }
+        for (String name : s.keys()) {
+            Section c = s.section(name, true);
+            if (c == null) {
+                continue;
+            }
+            int at = r.count();
+            if (name.isBlank()) {
+                s.problem(name, "a camera's name must not be empty");
+            }
+            Integer height = c.count("height", null, 1);
+            Integer width = c.count("width", null, 1);
+            PixelFormat format = c.choice("pixel_format", PixelFormat.values(), PixelFormat::label, null);
+            Double ageMax = c.positive("age_max", null);
+            Optional<Path> file = Optional.empty();
+            boolean embedded = false;
+            Section src = c.section("source", false);
+            if (src != null) {
+                String kind = src.choice("kind", new String[] {"shared_memory", "embedded"}, x -> x, null);
+                if ("shared_memory".equals(kind)) {
+                    String f = src.text("file", null);
+                    if (f != null) {
+                        file = Optional.of(baseDir.resolve(f).normalize());
+                    }
+                } else if ("embedded".equals(kind)) {
+                    embedded = true;
+                }
+                src.done();
+            }
+            c.done();
+            if (height != null && width != null && (long) height * width * 3 > Integer.MAX_VALUE / 2) {
+                c.problem("height", "a frame of " + height + " × " + width + " is larger than weft takes (1 GiB)");
+            }
+            if (r.count() == at) {
+                CameraConfig cc = new CameraConfig(name, height, width, format, ageMax, file, embedded);
+                out.add(cc);
+                camerasByName.put(name, cc);
+            }
+        }
+        s.done();
+        if (r.count() != before) {
+            camerasBroken = true;
+            return null;
+        }
+        return out;
+    }
+
+    private InputBinding camera(Section b) {
+        String camera = b.text("camera", null);
+        int[] crop = new int[0];
+        Section cs = b.section("crop", false);
+        if (cs != null) {
+            Long top = cs.whole("top", 0L, 0, Integer.MAX_VALUE);
+            Long left = cs.whole("left", 0L, 0, Integer.MAX_VALUE);
+            Integer rows = cs.count("height", null, 1);
+            Integer columns = cs.count("width", null, 1);
+            cs.done();
+            if (top != null && left != null && rows != null && columns != null) {
+                crop = new int[] {top.intValue(), left.intValue(), rows, columns};
+            }
+        }
+        ImagePreprocessor.Resize resize = b.choice("resize", ImagePreprocessor.Resize.values(),
+                ImagePreprocessor.Resize::label, ImagePreprocessor.Resize.BILINEAR);
+        ImagePreprocessor.Layout layout = b.choice("layout", ImagePreprocessor.Layout.values(),
+                ImagePreprocessor.Layout::label, null);
+        String order = b.choice("channel_order", new String[] {"rgb", "bgr"}, x -> x, "rgb");
+        Boolean unit = b.flag("scale_to_unit", Boolean.TRUE);
+        CameraConfig cam = camera == null ? null : camerasByName.get(camera);
+        if (camera != null && cam == null && !camerasBroken) {
+            b.problem("camera", camerasByName.isEmpty() ? "names camera \"" + camera
+                    + "\", but the file has no cameras section; add cameras." + camera + " (height, width,"
+                    + " pixel_format, age_max)" : "no camera \"" + camera + "\" in cameras; they are "
+                    + camerasByName.keySet());
+        }
+        int channels = cam == null ? 3 : cam.channels();
+        double[] mean = b.has("mean") ? numbers(b, "mean") : filled(channels, 0);
+        double[] std = b.has("std") ? numbers(b, "std") : filled(channels, 1);
+        if (mean != null && mean.length != channels) {
+            b.problem("mean", "needs " + channels + " values, one per channel, got " + mean.length);
+            mean = null;
+        }
+        if (std != null && std.length != channels) {
+            b.problem("std", "needs " + channels + " values, one per channel, got " + std.length);
+            std = null;
+        } else if (std != null) {
+            for (double v : std) {
+                if (!(v > 0)) {
+                    b.problem("std", "every value must be > 0, got " + v);
+                    std = null;
+                    break;
+                }
+            }
+        }
+        if (cam != null && crop.length == 4 && ((long) crop[0] + crop[2] > cam.height()
+                || (long) crop[1] + crop[3] > cam.width())) {
+            b.problem("crop", "the window rows " + crop[0] + " to " + ((long) crop[0] + crop[2]) + ", columns "
+                    + crop[1] + " to " + ((long) crop[1] + crop[3]) + " does not fit camera " + camera + "'s "
+                    + cam.height() + " × " + cam.width() + " frames");
+        }
+        if (cam == null || resize == null || layout == null || order == null || unit == null || mean == null
+                || std == null) {
+            return null;
+        }
+        return new InputBinding.Image(camera, cam.height(), cam.width(), channels,
+                cam.pixelFormat() == PixelFormat.BGR8, crop, resize, layout, order.equals("bgr"), unit, mean, std);
+    }
+
+    private double[] numbers(Section v, String key) {
+        Map<String, JsonNode> list = v.list(key, true);
+        if (list == null) {
+            return null;
+        }
+        double[] out = new double[list.size()];
+        int i = 0;
+        boolean ok = true;
+        for (Map.Entry<String, JsonNode> e : list.entrySet()) {
+            Double d = r.finite(e.getKey(), e.getValue());
+            ok &= d != null;
+            out[i++] = d == null ? 0 : d;
+        }
+        return ok ? out : null;
+    }
+
+    private static double[] filled(int n, double v) {
+        double[] out = new double[n];
+        java.util.Arrays.fill(out, v);
+        return out;
+    }
+
     private InputBinding binding(Section b) {
         if (b == null) {
             return null;
@@ -268,6 +416,7 @@ final class ConfigParser {
         InputBinding out = null;
         switch (kind) {
             case OBSERVATION -> out = new InputBinding.Observation();
+            case CAMERA -> out = camera(b);
             case STEP -> out = new InputBinding.Step();
             case HISTORY -> {
                 Integer depth = b.count("depth", null, 1);

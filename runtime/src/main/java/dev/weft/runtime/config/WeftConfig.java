@@ -28,6 +28,7 @@ import dev.weft.runtime.recording.RecordingSpec;
  *
  * @param robot the joints and their limits
  * @param timing control period, policy step and query schedule
+ * @param cameras the camera streams ({@code cameras}), in document order; empty when there are none
  * @param policy the policy section, mapped onto the records the ONNX adapter takes
  * @param blending how chunks are blended
  * @param smoothing the optional smoothing filter
@@ -40,7 +41,7 @@ import dev.weft.runtime.recording.RecordingSpec;
  *     section (a dry run needs one)
  * @param gates the thresholds a dry run is judged by ({@link GatesConfig#DEFAULTS} when not given)
  */
-public record WeftConfig(RobotConfig robot, TimingConfig timing, PolicySpec policy, BlendingConfig blending,
+public record WeftConfig(RobotConfig robot, TimingConfig timing, List<CameraConfig> cameras, PolicySpec policy, BlendingConfig blending,
                          SmoothingConfig smoothing, WatchdogConfig watchdog, ArmingConfig arming, EndpointConfig source,
                          EndpointConfig port, TelemetryConfig telemetry, Optional<RecordingConfig> recording,
                          GatesConfig gates) {
@@ -55,24 +56,25 @@ public record WeftConfig(RobotConfig robot, TimingConfig timing, PolicySpec poli
     public static final double DEFAULT_DERIVATIVE_CUTOFF = 1.0;
 
     public WeftConfig {
-        if (robot == null || timing == null || policy == null || blending == null || smoothing == null
+        if (robot == null || timing == null || cameras == null || policy == null || blending == null || smoothing == null
                 || watchdog == null || arming == null || source == null || port == null || telemetry == null
                 || recording == null || gates == null) {
             throw new IllegalArgumentException("every section of a configuration must be given");
         }
+        cameras = List.copyOf(cameras);
     }
 
     /** A configuration with no {@code recording} section and the default gates. */
     public WeftConfig(RobotConfig robot, TimingConfig timing, PolicySpec policy, BlendingConfig blending,
                       SmoothingConfig smoothing, WatchdogConfig watchdog, ArmingConfig arming, EndpointConfig source,
                       EndpointConfig port, TelemetryConfig telemetry) {
-        this(robot, timing, policy, blending, smoothing, watchdog, arming, source, port, telemetry, Optional.empty(),
+        this(robot, timing, List.of(), policy, blending, smoothing, watchdog, arming, source, port, telemetry, Optional.empty(),
                 GatesConfig.DEFAULTS);
     }
 
     /** This configuration with another telemetry section (the command line's {@code --overwrite}). */
     public WeftConfig withTelemetry(TelemetryConfig t) {
-        return new WeftConfig(robot, timing, policy, blending, smoothing, watchdog, arming, source, port, t, recording,
+        return new WeftConfig(robot, timing, cameras, policy, blending, smoothing, watchdog, arming, source, port, t, recording,
                 gates);
     }
 

@@ -10,6 +10,7 @@ import dev.weft.runtime.loop.ManualClock;
 import dev.weft.runtime.policy.LatencyProbe;
 import dev.weft.runtime.policy.OnnxPolicy;
 import dev.weft.runtime.port.CsvPort;
+import dev.weft.runtime.recording.RecordedFrames;
 import dev.weft.runtime.recording.Recording;
 import dev.weft.runtime.source.ObservationSource;
 import dev.weft.runtime.source.SimulatedPlant;
@@ -80,6 +81,21 @@ public final class DryRun {
      * @throws IOException when a file cannot be written
      */
     public static Result run(ConfiguredRun run, Recording recording, Options o) throws BadInputException, IOException {
+        return run(run, recording, List.of(), o);
+    }
+
+    /**
+     * As {@link #run(ConfiguredRun, Recording, Options)}, with the recording's cameras replayed at
+     * their own times: each configured camera is watched (its frame age, the frame-stale condition)
+     * and a policy's camera inputs read the newest recorded frame at or before each query's
+     * observation time.
+     *
+     * @param cameras the recording's cameras ({@code Recordings.readCameras}); every camera the
+     *     configuration lists must be among them
+     */
+    public static Result run(ConfiguredRun run, Recording recording, List<RecordedFrames> cameras, Options o)
+            throws BadInputException, IOException {
+        checkCameras(run, recording, cameras);
         JointLimits limits = run.limits();
         int joints = limits.count();
         double period = run.config().timing().controlPeriod();
@@ -123,6 +139,7 @@ public final class DryRun {
         long ticks = (long) Math.floor(span / period + 1e-9) + 1;
 
         LoopClock clock = o.realtime() ? LoopClock.system() : new ManualClock(1_000_000_000L);
+        long start = clock.nanoTime();
         ObservationSource source;
         double[] first = new double[recording.observationSize()];
         recording.observation(0, first);
@@ -137,7 +154,7 @@ public final class DryRun {
             double[] pose = Arrays.copyOf(first, joints);
             source = new SimulatedSource(new SimulatedPlant(pose, 8.0, 0.9, period, velocities, 0.0, 1), clock, true);
         } else {
-            source = new RecordingSource(recording, clock);
+            source = new RecordingSource(recording, clock, start);
         }
         CsvPort port = new CsvPort(commands, names, CsvPort.DEFAULT_RING, !o.realtime());
         List<long[]> stopEvents = new ArrayList<>();
@@ -159,6 +176,16 @@ public final class DryRun {
                 });
         if (!o.realtime()) {
             b.virtualTime((ManualClock) clock, latencyTicks);
+        }
+        List<RecordedCamera> replayed = new ArrayList<>();
+        for (dev.weft.runtime.config.CameraConfig c : run.config().cameras()) {
+            for (RecordedFrames f : cameras) {
+                if (f.camera().equals(c.name())) {
+                    RecordedCamera rc = new RecordedCamera(f, clock, start, recording.time(0));
+                    replayed.add(rc);
+                    b.camera(c.name(), rc, c.ageMax());
+                }
+            }
         }
         Weft weft = b.build();
         long wallStart = System.nanoTime();
@@ -208,6 +235,33 @@ public final class DryRun {
         }
         return finish(run, recording, o, s, commandRows, violations, staleDropped, deferred, stops, inferenceMs, latencyMs,
                 latencyTicks, weft.loop().autoArmResult(), commands, telemetry, rows);
+    }
+
+    /** Every configured camera is in the recording, with the configured frame size and pixel format. */
+    private static void checkCameras(ConfiguredRun run, Recording recording, List<RecordedFrames> cameras)
+            throws BadInputException {
+        List<BadInputException.Problem> problems = new ArrayList<>();
+        for (dev.weft.runtime.config.CameraConfig c : run.config().cameras()) {
+            RecordedFrames found = null;
+            for (RecordedFrames f : cameras) {
+                if (f.camera().equals(c.name())) {
+                    found = f;
+                }
+            }
+            if (found == null) {
+                problems.add(new BadInputException.Problem(recording.source(), "camera " + c.name()
+                        + " (cameras." + c.name() + ") has no frames here: list its datasets under recording.cameras."
+                        + c.name()));
+            } else if (found.height() != c.height() || found.width() != c.width()
+                    || found.pixelFormat() != c.pixelFormat()) {
+                problems.add(new BadInputException.Problem(found.source(), "frames are " + found.height() + " × "
+                        + found.width() + " " + found.pixelFormat().label() + ", cameras." + c.name() + " says "
+                        + c.height() + " × " + c.width() + " " + c.pixelFormat().label()));
+            }
+        }
+        if (!problems.isEmpty()) {
+            throw new BadInputException(problems);
+        }
     }
 
     private static Result finish(ConfiguredRun run, Recording recording, Options o, Series s, long commandRows,

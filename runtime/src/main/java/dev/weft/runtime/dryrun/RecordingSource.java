@@ -21,9 +21,14 @@ public final class RecordingSource implements ObservationSource {
 
     /** Time zero is the clock's reading now. */
     public RecordingSource(Recording recording, LoopClock clock) {
+        this(recording, clock, clock.nanoTime());
+    }
+
+    /** Time zero is {@code startNanos} on {@code clock} (shared with the recording's cameras). */
+    public RecordingSource(Recording recording, LoopClock clock, long startNanos) {
         this.recording = recording;
         this.clock = clock;
-        this.startNanos = clock.nanoTime();
+        this.startNanos = startNanos;
         this.firstTime = recording.time(0);
     }
 

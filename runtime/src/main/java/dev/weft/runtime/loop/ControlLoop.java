@@ -152,6 +152,8 @@ public final class ControlLoop implements AutoCloseable {
     private final SampleHistory history;
     /** Watched cameras: each one's frame reader (the loop's own), its age bound, its latest age. */
     private Camera[] cameras = new Camera[0];
+    /** Each watched camera's first frame stamp seen, or −1 before its first frame. */
+    private long[] firstFrameStamp = new long[0];
     private long[] frameAge = new long[0];
     /** Watchdog bits of the conditions the loop itself saw this tick, before the watchdog check. */
     private int reportedNow;
@@ -858,7 +860,7 @@ public final class ControlLoop implements AutoCloseable {
      * recorded in telemetry. The reader must be the loop's own (readers are single-threaded); the
      * loop only reads stamps, never copies a frame.
      */
-    public record Camera(String name, dev.weft.runtime.source.SharedFrameReader reader, long ageMaxNanos) {
+    public record Camera(String name, dev.weft.runtime.image.FrameSource reader, long ageMaxNanos) {
         public Camera {
             if (ageMaxNanos <= 0) {
                 throw new IllegalArgumentException("camera " + name + ": the age bound must be > 0 ns, got "
@@ -875,6 +877,8 @@ public final class ControlLoop implements AutoCloseable {
         this.cameras = watched.toArray(new Camera[0]);
         this.frameAge = new long[cameras.length];
         java.util.Arrays.fill(frameAge, -1);
+        this.firstFrameStamp = new long[cameras.length];
+        java.util.Arrays.fill(firstFrameStamp, -1);
     }
 
     /**
@@ -897,7 +901,7 @@ public final class ControlLoop implements AutoCloseable {
             Camera c = cameras[i];
             long stamp;
             try {
-                stamp = c.reader().peekStamp();
+                stamp = c.reader().latestStamp();
             } catch (Throwable t) {
                 fault(WatchdogCondition.TICK_EXCEPTION, "camera " + c.name(), t);
                 continue;
@@ -914,6 +918,9 @@ public final class ControlLoop implements AutoCloseable {
                 }
                 reportedNow |= WatchdogCondition.FRAME_STALE.bit();
                 continue;
+            }
+            if (stamp >= 0 && firstFrameStamp[i] < 0) {
+                firstFrameStamp[i] = stamp;
             }
             long age = stamp < 0 ? -1 : Math.max(0, start - stamp);
             frameAge[i] = age;
@@ -952,7 +959,7 @@ public final class ControlLoop implements AutoCloseable {
             } else {
                 queryPending = true;
             }
-            if (queryPending && usable && obsTime > lastQueriedStamp && worker.idle()) {
+            if (queryPending && usable && obsTime > lastQueriedStamp && framesBefore(obsTime) && worker.idle()) {
                 long origin = originTick(obsTime, n);
                 if (origin >= 0) {
                     System.arraycopy(observation, 0, query.observation(), 0, observation.length);
@@ -974,6 +981,20 @@ public final class ControlLoop implements AutoCloseable {
         } catch (Throwable t) {
             fault(WatchdogCondition.TICK_EXCEPTION, "inference request", t);
         }
+    }
+
+    /**
+     * Whether every watched camera has a frame stamped at or before {@code obsTime}: a policy's
+     * camera inputs read the newest such frame, so a query waits until there is one (the first
+     * frame of a camera that starts after the joint state).
+     */
+    private boolean framesBefore(long obsTime) {
+        for (long first : firstFrameStamp) {
+            if (first < 0 || first > obsTime) {
+                return false;
+            }
+        }
+        return true;
     }
 
     /** Step 3: every finished chunk into the sink (never blocks). */

@@ -1,5 +1,6 @@
 package dev.weft.runtime.policy;
 
+import dev.weft.runtime.image.ImagePreprocessor;
 import java.util.Arrays;
 
 /**
@@ -10,7 +11,8 @@ public sealed interface InputBinding {
 
     /** The kinds of source, with the names configuration uses. */
     enum Kind {
-        OBSERVATION("observation"), HISTORY("history"), CONSTANT("constant"), NOISE("noise"), STEP("step");
+        OBSERVATION("observation"), HISTORY("history"), CONSTANT("constant"), NOISE("noise"), STEP("step"),
+        CAMERA("camera");
 
         private final String label;
 
@@ -157,6 +159,98 @@ public sealed interface InputBinding {
         @Override
         public int valueCount(int observationSize) {
             return count;
+        }
+    }
+
+    /**
+     * A camera's frame, preprocessed into an image tensor: on every call the newest frame stamped
+     * at or before the request's observation time, cropped, resized to the model input's height and
+     * width, its channels ordered, laid out, scaled and normalised ({@link ImagePreprocessor}). The
+     * tensor's size comes from the model's fixed shape {@code [1, C, H, W]} or {@code [1, H, W, C]}.
+     *
+     * @param camera the camera's name (a key of the configuration's {@code cameras})
+     * @param frameHeight the camera's frame rows
+     * @param frameWidth the camera's frame columns
+     * @param frameChannels 3 (colour) or 1 (grey)
+     * @param frameBgr whether the camera's colour frames are blue, green, red
+     * @param crop {@code top, left, rows, columns} of the window cut out of the frame; empty for the whole frame
+     * @param resize how the window is brought to the tensor's size
+     * @param layout the tensor's axis order
+     * @param tensorBgr whether the tensor's channels are blue, green, red
+     * @param scaleToUnit divide pixel values by 255 first
+     * @param mean per tensor channel, after scaling
+     * @param std per tensor channel, after scaling, {@code > 0}
+     */
+    record Image(String camera, int frameHeight, int frameWidth, int frameChannels, boolean frameBgr, int[] crop,
+                 ImagePreprocessor.Resize resize, ImagePreprocessor.Layout layout, boolean tensorBgr,
+                 boolean scaleToUnit, double[] mean, double[] std) implements InputBinding {
+        public Image {
+            crop = crop.clone();
+            mean = mean.clone();
+            std = std.clone();
+            if (crop.length != 0 && crop.length != 4) {
+                throw new IllegalArgumentException("a crop is top, left, rows, columns; got " + crop.length + " numbers");
+            }
+            if (mean.length != frameChannels || std.length != frameChannels) {
+                throw new IllegalArgumentException("camera " + camera + ": mean and std need " + frameChannels
+                        + " values each, got " + mean.length + " and " + std.length);
+            }
+        }
+
+        @Override
+        public Kind kind() {
+            return Kind.CAMERA;
+        }
+
+        /** From the model's shape: this returns 0. */
+        @Override
+        public int valueCount(int observationSize) {
+            return 0;
+        }
+
+        /** The preprocessing for a tensor of {@code outHeight × outWidth} of {@code element}. */
+        public ImagePreprocessor.Settings settings(int outHeight, int outWidth, ImagePreprocessor.Element element) {
+            int top = crop.length == 4 ? crop[0] : 0;
+            int left = crop.length == 4 ? crop[1] : 0;
+            int rows = crop.length == 4 ? crop[2] : frameHeight;
+            int columns = crop.length == 4 ? crop[3] : frameWidth;
+            return new ImagePreprocessor.Settings(frameHeight, frameWidth, frameChannels, frameBgr, top, left, rows,
+                    columns, outHeight, outWidth, resize, tensorBgr, layout, scaleToUnit, mean, std, element);
+        }
+
+        @Override
+        public int[] crop() {
+            return crop.clone();
+        }
+
+        @Override
+        public double[] mean() {
+            return mean.clone();
+        }
+
+        @Override
+        public double[] std() {
+            return std.clone();
+        }
+
+        @Override
+        public boolean equals(Object o) {
+            return o instanceof Image i && camera.equals(i.camera) && frameHeight == i.frameHeight
+                    && frameWidth == i.frameWidth && frameChannels == i.frameChannels && frameBgr == i.frameBgr
+                    && Arrays.equals(crop, i.crop) && resize == i.resize && layout == i.layout
+                    && tensorBgr == i.tensorBgr && scaleToUnit == i.scaleToUnit && Arrays.equals(mean, i.mean)
+                    && Arrays.equals(std, i.std);
+        }
+
+        @Override
+        public int hashCode() {
+            return camera.hashCode() * 31 + Arrays.hashCode(mean) * 7 + Arrays.hashCode(crop);
+        }
+
+        @Override
+        public String toString() {
+            return "Image[" + camera + " " + frameHeight + "x" + frameWidth + "x" + frameChannels + " " + resize.label()
+                    + " " + layout.label() + "]";
         }
     }
 

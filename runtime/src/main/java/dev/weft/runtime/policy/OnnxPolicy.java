@@ -206,6 +206,51 @@ public final class OnnxPolicy implements Policy {
         return outputShape.clone();
     }
 
+    @Override
+    public List<String> cameras() {
+        List<String> out = new ArrayList<>();
+        for (Bound b : bound) {
+            if (b.binding instanceof InputBinding.Image i && !out.contains(i.camera())) {
+                out.add(i.camera());
+            }
+        }
+        return out;
+    }
+
+    @Override
+    public void attachFrames(String camera, dev.weft.runtime.image.FrameSource frames) {
+        boolean found = false;
+        for (Bound b : bound) {
+            if (b.binding instanceof InputBinding.Image i && i.camera().equals(camera)) {
+                if (frames.height() != i.frameHeight() || frames.width() != i.frameWidth()
+                        || frames.channels() != i.frameChannels()) {
+                    throw new IllegalArgumentException("camera " + camera + ": " + frames.describe()
+                            + ", the policy's input '" + b.name + "' is configured for " + i.frameHeight() + " × "
+                            + i.frameWidth() + " × " + i.frameChannels());
+                }
+                b.frames = frames;
+                found = true;
+            }
+        }
+        if (!found) {
+            throw new IllegalArgumentException("the policy reads no camera named " + camera + "; it reads "
+                    + cameras());
+        }
+    }
+
+    /**
+     * The stamp of the frame the last call read from {@code camera} (ns, the loop's clock), or −1.
+     * Read on the thread that calls {@code infer}.
+     */
+    public long lastFrameStamp(String camera) {
+        for (Bound b : bound) {
+            if (b.binding instanceof InputBinding.Image i && i.camera().equals(camera)) {
+                return b.frameStamp;
+            }
+        }
+        return -1;
+    }
+
     /** The history inputs' grids, in model input order. */
     @Override
     public List<InputBinding.History> histories() {
@@ -229,8 +274,9 @@ public final class OnnxPolicy implements Policy {
         if (closed) {
             throw new IllegalStateException("policy is closed");
         }
+        boolean isDirect = input == direct;
         for (Bound b : bound) {
-            b.fill(input);
+            b.fill(input, isDirect);
         }
         try (OrtSession.Result ignored = session.run(inputs, pinned)) {
             int n = modelSteps * actionSize;
@@ -308,7 +354,11 @@ public final class OnnxPolicy implements Policy {
     // ---------------------------------------------------------------------------------- planning
 
     /** A validated input: its binding, element type and concrete shape. */
-    private record Plan(String name, InputBinding binding, TensorElement element, long[] shape) {
+    private record Plan(String name, InputBinding binding, TensorElement element, long[] shape,
+                        dev.weft.runtime.image.ImagePreprocessor image) {
+        Plan(String name, InputBinding binding, TensorElement element, long[] shape) {
+            this(name, binding, element, shape, null);
+        }
     }
 
     private record OutputPlan(String name, TensorElement type, long[] shape, int k, int d) {
@@ -342,13 +392,22 @@ public final class OnnxPolicy implements Policy {
             TensorElement e = TensorElement.of(t.type());
             boolean typeOk = switch (b.kind()) {
                 case OBSERVATION, HISTORY, NOISE -> e == TensorElement.FLOAT32 || e == TensorElement.FLOAT64;
-                case CONSTANT, STEP -> e != null;
+                case CONSTANT, STEP -> e != null && e != TensorElement.UINT8;
+                case CAMERA -> e == TensorElement.FLOAT32 || e == TensorElement.UINT8;
             };
             if (!typeOk) {
                 String allowed = (b instanceof InputBinding.Constant || b instanceof InputBinding.Step)
-                        ? "float32, float64 or int64" : "float32 or float64";
+                        ? "float32, float64 or int64" : b instanceof InputBinding.Image ? "float32 or uint8"
+                        : "float32 or float64";
                 problems.add(new Problem(where, "bound to " + kindName(b) + ", which needs " + allowed
                         + ", but the model wants " + t.elementLabel()));
+                continue;
+            }
+            if (b instanceof InputBinding.Image image) {
+                Plan p = planImage(t, image, e, where, problems);
+                if (p != null) {
+                    plans.add(p);
+                }
                 continue;
             }
             int needed = b.valueCount(spec.observationSize());
@@ -369,6 +428,42 @@ public final class OnnxPolicy implements Policy {
             plans.add(new Plan(t.name(), b, e, shape));
         }
         return plans;
+    }
+
+    /**
+     * An image input: a fixed {@code [1, C, H, W]} (or {@code [1, H, W, C]}) tensor, the batch axis
+     * 1 or dynamic, {@code C} the camera's channels; the preprocessing resizes to its {@code H × W}.
+     */
+    private static Plan planImage(TensorSignature t, InputBinding.Image image, TensorElement e, String where,
+                                  List<Problem> problems) {
+        long[] s = t.shape();
+        boolean nchw = image.layout() == dev.weft.runtime.image.ImagePreprocessor.Layout.NCHW;
+        String axes = nchw ? "[1, C, H, W]" : "[1, H, W, C]";
+        if (s.length != 4 || (s[0] >= 0 && s[0] != 1) || s[1] <= 0 || s[2] <= 0 || s[3] <= 0) {
+            problems.add(new Problem(where, "bound to camera " + image.camera() + " with layout "
+                    + image.layout().label() + ", which needs a shape " + axes
+                    + " with H, W and C fixed, but the model's shape is " + t.shapeText()));
+            return null;
+        }
+        long c = nchw ? s[1] : s[3];
+        long h = nchw ? s[2] : s[1];
+        long w = nchw ? s[3] : s[2];
+        if (c != image.frameChannels()) {
+            problems.add(new Problem(where, "has " + c + " channels " + axes.replace("[1, ", "(axis of ")
+                    .replace("]", ")") + ", camera " + image.camera() + " gives " + image.frameChannels()
+                    + (nchw && s[3] == image.frameChannels() ? "; is the layout nhwc?" : "")
+                    + (!nchw && s[1] == image.frameChannels() ? "; is the layout nchw?" : "")));
+            return null;
+        }
+        try {
+            dev.weft.runtime.image.ImagePreprocessor pre = new dev.weft.runtime.image.ImagePreprocessor(image.settings(
+                    (int) h, (int) w, e == TensorElement.UINT8 ? dev.weft.runtime.image.ImagePreprocessor.Element.UINT8
+                            : dev.weft.runtime.image.ImagePreprocessor.Element.FLOAT32));
+            return new Plan(t.name(), image, e, new long[] {1, s[1], s[2], s[3]}, pre);
+        } catch (IllegalArgumentException bad) {
+            problems.add(new Problem(where, "camera " + image.camera() + ": " + bad.getMessage()));
+            return null;
+        }
     }
 
     private static OutputPlan planOutput(PolicySpec spec, ModelSignature sig, List<Problem> problems) {
@@ -568,6 +663,7 @@ public final class OnnxPolicy implements Policy {
             case FLOAT32 -> OnnxTensor.createTensor(env, buf.asFloatBuffer(), shape);
             case FLOAT64 -> OnnxTensor.createTensor(env, buf.asDoubleBuffer(), shape);
             case INT64 -> OnnxTensor.createTensor(env, buf.asLongBuffer(), shape);
+            case UINT8 -> OnnxTensor.createTensor(env, buf, shape, OnnxJavaType.UINT8);
         };
     }
 
@@ -612,10 +708,19 @@ public final class OnnxPolicy implements Policy {
         SplittableRandom random;
         /** Which of the request's history grids this input reads; −1 for other sources. */
         int historyIndex = -1;
+        /** An image input's preprocessing, its frame slot, and the camera's frames (attached by the run). */
+        final dev.weft.runtime.image.ImagePreprocessor image;
+        final ByteBuffer frame;
+        final ByteBuffer bytes;
+        dev.weft.runtime.image.FrameSource frames;
+        /** The stamp of the frame the last call read, or −1. */
+        long frameStamp = -1;
 
         private Bound(String name, InputBinding binding, long[] shape, OnnxTensor tensor, int count, int observationSize,
-                      ValueScale scale) {
+                      ValueScale scale, dev.weft.runtime.image.ImagePreprocessor image) {
             this.name = name;
+            this.image = image;
+            this.frame = image == null ? null : ByteBuffer.allocateDirect(image.frameBytes());
             this.scale = scale;
             this.binding = binding;
             this.shape = shape;
@@ -626,6 +731,7 @@ public final class OnnxPolicy implements Policy {
             this.floats = ref instanceof FloatBuffer f ? f : null;
             this.doubles = ref instanceof DoubleBuffer d ? d : null;
             this.longs = ref instanceof LongBuffer l ? l : null;
+            this.bytes = ref instanceof ByteBuffer u ? u : null;
             this.random = binding instanceof InputBinding.Noise n ? new SplittableRandom(n.seed()) : null;
             if (binding instanceof InputBinding.Constant c) {
                 double[] v = c.values();
@@ -637,7 +743,8 @@ public final class OnnxPolicy implements Policy {
 
         static Bound create(OrtEnvironment env, Plan p, int observationSize, ValueScale scale) throws OrtException {
             OnnxTensor t = allocate(env, p.element(), p.shape());
-            return new Bound(p.name(), p.binding(), p.shape(), t, (int) elements(p.shape()), observationSize, scale);
+            return new Bound(p.name(), p.binding(), p.shape(), t, (int) elements(p.shape()), observationSize, scale,
+                    p.image());
         }
 
         void restart() {
@@ -647,8 +754,9 @@ public final class OnnxPolicy implements Policy {
             }
         }
 
-        void fill(PolicyInput input) {
+        void fill(PolicyInput input, boolean direct) {
             switch (binding.kind()) {
+                case CAMERA -> fillImage(input, direct);
                 case OBSERVATION -> {
                     double[] observation = input.observation();
                     for (int i = 0; i < count; i++) {
@@ -675,6 +783,30 @@ public final class OnnxPolicy implements Policy {
                 case CONSTANT -> {
                     // written once at construction
                 }
+            }
+        }
+
+        /**
+         * The newest frame at or before the observation's time, preprocessed into the tensor; a call
+         * outside a run (warm-up, latency probe) reads a black frame.
+         */
+        private void fillImage(PolicyInput input, boolean direct) {
+            String camera = ((InputBinding.Image) binding).camera();
+            if (!direct) {
+                if (frames == null) {
+                    throw new IllegalStateException("camera " + camera + ": the run gave the policy no frames");
+                }
+                long stamp = frames.copyAtOrBefore(input.timeNanos(), frame);
+                if (stamp < 0) {
+                    throw new IllegalStateException("camera " + camera + ": no frame stamped at or before the"
+                            + " observation's time " + input.timeNanos() + " ns (" + frames.describe() + ")");
+                }
+                frameStamp = stamp;
+            }
+            if (floats != null) {
+                image.apply(frame, 0, floats);
+            } else {
+                image.apply(frame, 0, bytes);
             }
         }
 

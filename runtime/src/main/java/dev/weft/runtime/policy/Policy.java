@@ -53,6 +53,25 @@ public interface Policy extends AutoCloseable {
         infer(input.observation(), input.tick(), chunk);
     }
 
+    /**
+     * The cameras this policy's inputs read, by name; the run gives it each one's frames with
+     * {@link #attachFrames} before the first call. Default: none.
+     */
+    default List<String> cameras() {
+        return List.of();
+    }
+
+    /**
+     * Gives the policy the frames of {@code camera}, read on the thread that calls {@code infer}:
+     * each call copies the newest frame stamped at or before the request's observation time.
+     *
+     * @throws IllegalArgumentException when the policy reads no such camera, or its frames are not
+     *     the size the policy was configured for
+     */
+    default void attachFrames(String camera, dev.weft.runtime.image.FrameSource frames) {
+        throw new IllegalArgumentException("the policy reads no camera named " + camera);
+    }
+
     /** Releases native resources; idempotent. */
     @Override
     void close();

@@ -6,7 +6,9 @@ import ai.onnxruntime.OnnxJavaType;
 public enum TensorElement {
     FLOAT32("float32", OnnxJavaType.FLOAT, 4),
     FLOAT64("float64", OnnxJavaType.DOUBLE, 8),
-    INT64("int64", OnnxJavaType.INT64, 8);
+    INT64("int64", OnnxJavaType.INT64, 8),
+    /** For image inputs only: pixel values as they are, 0 to 255. */
+    UINT8("uint8", OnnxJavaType.UINT8, 1);
 
     private final String label;
     final OnnxJavaType ort;

@@ -40,10 +40,11 @@ import java.nio.file.StandardOpenOption;
  * reads on Linux (Python's {@code time.monotonic_ns()}, C's {@code clock_gettime}), so a frame's age
  * is {@code System.nanoTime() − stamp}. A writer that stops leaves the latest frame in place, ageing.
  *
- * <p>Allocation: {@link #open} maps the file; {@link #latest} copies into the caller's buffer and
- * allocates nothing. Threading: one reading thread.
+ * <p>Allocation: {@link #open} maps the file; {@link #latest} and {@link #copyAtOrBefore} copy into
+ * the caller's buffer and allocate nothing. Threading: one reading thread per instance; a second
+ * thread reads through {@link #sibling()} (the same mapping, state of its own).
  */
-public final class SharedFrameReader implements AutoCloseable {
+public final class SharedFrameReader implements AutoCloseable, dev.weft.runtime.image.FrameSource {
 
     /** The header's size and the slot header's size, bytes. */
     public static final int HEADER_BYTES = 64;
@@ -252,6 +253,80 @@ public final class SharedFrameReader implements AutoCloseable {
         return peeked;
     }
 
+    @Override
+    public long latestStamp() {
+        return peekStamp();
+    }
+
+    /**
+     * Copies the newest finished frame stamped at or before {@code timeNanos}, searching the ring
+     * from the latest frame back over every slot; a slot the writer is in is passed over (counted in
+     * {@link #tornReads()}), so a torn frame is never returned.
+     */
+    @Override
+    public long copyAtOrBefore(long timeNanos, ByteBuffer out) {
+        long newest = (long) LONGS.getAcquire(map, 40);
+        for (long k = newest; k > 0 && k > newest - slots; k--) {
+            int base = (int) (HEADER_BYTES + Long.remainderUnsigned(k, slots) * stride);
+            long before = (long) LONGS.getAcquire(map, base);
+            if (before != 2 * k) {
+                // overwritten by a newer frame, or being written: not frame k any more
+                if (before == 2 * k - 1) {
+                    torn++;
+                }
+                continue;
+            }
+            long stamp = (long) LONGS.getAcquire(map, base + 8);
+            long number = (long) LONGS.getAcquire(map, base + 16);
+            if (stamp > timeNanos) {
+                if ((long) LONGS.getAcquire(map, base) == before) {
+                    continue;
+                }
+                torn++;
+                continue;
+            }
+            out.put(0, map, base + SLOT_HEADER_BYTES, frameBytes);
+            VarHandle.acquireFence();
+            long after = (long) LONGS.getAcquire(map, base);
+            if (after != before || number != k) {
+                torn++;
+                continue;
+            }
+            lastNumber = k;
+            lastStamp = stamp;
+            frames++;
+            return stamp;
+        }
+        return -1;
+    }
+
+    @Override
+    public SharedFrameReader sibling() {
+        // the mapping is shared, the channel stays with this reader (closing a sibling closes nothing)
+        return new SharedFrameReader(name, null, map.duplicate().order(ByteOrder.LITTLE_ENDIAN), slots, height, width,
+                channels, format, stride);
+    }
+
+    @Override
+    public int height() {
+        return height;
+    }
+
+    @Override
+    public int width() {
+        return width;
+    }
+
+    @Override
+    public int channels() {
+        return channels;
+    }
+
+    @Override
+    public boolean bgr() {
+        return format == BGR8;
+    }
+
     /** The frame number of the last frame copied (0 before the first). */
     public long lastFrameNumber() {
         return lastNumber;
@@ -273,6 +348,7 @@ public final class SharedFrameReader implements AutoCloseable {
     }
 
     /** Bytes per frame: height × width × channels. */
+    @Override
     public int frameBytes() {
         return frameBytes;
     }
@@ -288,6 +364,7 @@ public final class SharedFrameReader implements AutoCloseable {
     }
 
     /** For messages. */
+    @Override
     public String describe() {
         return "frames " + height + " × " + width + " × " + channels + " from " + name;
     }
