@@ -82,7 +82,8 @@ final class DryRunCommand implements Callable<Integer> {
                 }
             }
             Recording rec = Recordings.read(recording, rs.get());
-            List<String> cameras = cameraNotes(recording, rs.get());
+            List<RecordedFrames> frames = Recordings.readCameras(recording, rs.get());
+            List<String> cameras = cameraNotes(frames, c);
             try {
                 java.nio.file.Files.createDirectories(report);
             } catch (IOException e) {
@@ -93,7 +94,7 @@ final class DryRunCommand implements Callable<Integer> {
             cameras.forEach(out::println);
             out.flush();
             String name = recording.getFileName().toString();
-            DryRun.Result r = DryRun.run(run, rec, new DryRun.Options(report, name, closedLoop, realtime, latencyTicks,
+            DryRun.Result r = DryRun.run(run, rec, frames, new DryRun.Options(report, name, closedLoop, realtime, latencyTicks,
                     g, System.console() != null ? out : null));
             Path html = report.resolve("report.html");
             HtmlReport.write(html, "weft dry run: " + name, List.of(new HtmlReport.Episode(r.summary(), r.trace())));
@@ -116,21 +117,20 @@ final class DryRunCommand implements Callable<Integer> {
         }
     }
 
-    /** One summary's verdict and headline figures. */
-    /**
-     * Reads and checks the recording's cameras, one line each. The frames are not kept: they are not
-     * replayed into the loop yet.
-     */
-    private static List<String> cameraNotes(Path file, RecordingSpec spec) throws BadInputException {
+    /** The recording's cameras, one line each: replayed at their own times, or only read when not configured. */
+    static List<String> cameraNotes(List<RecordedFrames> frames, dev.weft.runtime.config.WeftConfig c) {
         List<String> notes = new ArrayList<>();
-        for (RecordedFrames f : Recordings.readCameras(file, spec)) {
-            notes.add(String.format(Locale.ROOT, "camera    %s: %d frames %d × %d %s, %.3f s to %.3f s; read and "
-                            + "checked, not replayed into the loop yet", f.camera(), f.frameCount(), f.height(),
-                    f.width(), f.pixelFormat().label(), f.time(0), f.time(f.frameCount() - 1)));
+        for (RecordedFrames f : frames) {
+            boolean replayed = c.cameras().stream().anyMatch(cc -> cc.name().equals(f.camera()));
+            notes.add(String.format(Locale.ROOT, "camera    %s: %d frames %d × %d %s, %.3f s to %.3f s; %s",
+                    f.camera(), f.frameCount(), f.height(), f.width(), f.pixelFormat().label(), f.time(0),
+                    f.time(f.frameCount() - 1), replayed ? "replayed at its own times" : "read and checked, not replayed"
+                            + " (no cameras." + f.camera() + " in the configuration)"));
         }
         return notes;
     }
 
+    /** One summary's verdict and headline figures. */
     static void printVerdict(PrintWriter out, DryRunSummary s) {
         double worst = Double.NaN;
         for (double v : s.rmsError()) {

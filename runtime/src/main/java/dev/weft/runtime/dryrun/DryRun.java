@@ -233,8 +233,59 @@ public final class DryRun {
                 stops.add(new DryRunSummary.Stop(e[0], e[1] / 1e9, (int) e[2], Cause.message((int) e[2])));
             }
         }
+        List<DryRunTrace.FrameSnapshot> snapshots = snapshots(replayed, run.config().cameras(), start, s.time, periodNanos);
         return finish(run, recording, o, s, commandRows, violations, staleDropped, deferred, stops, inferenceMs, latencyMs,
-                latencyTicks, weft.loop().autoArmResult(), commands, telemetry, rows);
+                latencyTicks, weft.loop().autoArmResult(), commands, telemetry, rows, snapshots);
+    }
+
+    /** Camera frames shown in the report, per camera: at this many ticks, spread over the run. */
+    static final int SNAPSHOTS = 4;
+    /** Frames wider than this are shown shrunk (every n-th pixel) in the report. */
+    static final int SNAPSHOT_WIDTH_MAX = 160;
+
+    /**
+     * Each replayed camera's frame at {@link #SNAPSHOTS} ticks spread over the ticks run (at 1/8,
+     * 3/8, 5/8, 7/8): the newest frame at or before each tick, as a query there would read it.
+     */
+    private static List<DryRunTrace.FrameSnapshot> snapshots(List<RecordedCamera> cameras,
+                                                             List<dev.weft.runtime.config.CameraConfig> configs,
+                                                             long start, double[] tickTimes, long periodNanos) {
+        List<DryRunTrace.FrameSnapshot> out = new ArrayList<>();
+        if (tickTimes.length == 0) {
+            return out;
+        }
+        for (int c = 0; c < cameras.size(); c++) {
+            RecordedCamera cam = cameras.get(c);
+            RecordedFrames f = cam.frames();
+            int step = Math.max(1, (f.width() + SNAPSHOT_WIDTH_MAX - 1) / SNAPSHOT_WIDTH_MAX);
+            int h = (f.height() + step - 1) / step;
+            int w = (f.width() + step - 1) / step;
+            java.nio.ByteBuffer frame = java.nio.ByteBuffer.allocate(f.frameBytes());
+            for (int k = 0; k < SNAPSHOTS; k++) {
+                int tick = (int) Math.min(tickTimes.length - 1, (long) tickTimes.length * (2 * k + 1) / (2 * SNAPSHOTS));
+                double tickSeconds = tickTimes[tick];
+                long at = start + Math.round(tickSeconds * 1e9);
+                int i = cam.frameAtOrBefore(at);
+                byte[] px = new byte[h * w * f.channels()];
+                double frameSeconds = Double.NaN;
+                if (i >= 0) {
+                    f.copyFrame(i, frame, 0);
+                    frameSeconds = (cam.stamp(i) - start) / 1e9;
+                    boolean bgr = f.pixelFormat() == dev.weft.runtime.recording.PixelFormat.BGR8;
+                    int n = 0;
+                    for (int y = 0; y < f.height(); y += step) {
+                        for (int x = 0; x < f.width(); x += step) {
+                            int base = (y * f.width() + x) * f.channels();
+                            for (int ch = 0; ch < f.channels(); ch++) {
+                                px[n++] = frame.get(base + (bgr ? 2 - ch : ch));
+                            }
+                        }
+                    }
+                }
+                out.add(new DryRunTrace.FrameSnapshot(f.camera(), tickSeconds, frameSeconds, h, w, f.channels(), px));
+            }
+        }
+        return out;
     }
 
     /** Every configured camera is in the recording, with the configured frame size and pixel format. */
@@ -267,7 +318,8 @@ public final class DryRun {
     private static Result finish(ConfiguredRun run, Recording recording, Options o, Series s, long commandRows,
                                  long violations, long staleDropped, long deferred, List<DryRunSummary.Stop> stops,
                                  DryRunSummary.Percentiles inferenceMs, double[] latencyMs, long latencyTicks,
-                                 int armOutcome, Path commands, Path telemetry, RowCounts rows) throws IOException {
+                                 int armOutcome, Path commands, Path telemetry, RowCounts rows,
+                                 List<DryRunTrace.FrameSnapshot> snapshots) throws IOException {
         JointLimits limits = run.limits();
         int joints = limits.count();
         int n = s.ticks;
@@ -345,7 +397,7 @@ public final class DryRun {
                     recorded[j], s.target[j], s.command[j], s.jointFlags[j]));
         }
         DryRunTrace trace = new DryRunTrace(s.time, traces, s.state, s.watchdog, latencyMs,
-                o.realtime() ? s.periodErrorMs : null);
+                o.realtime() ? s.periodErrorMs : null, snapshots);
         Path summaryFile = o.reportDir().resolve("summary.json");
         writeSummary(summary, summaryFile);
         return new Result(summary, trace, commands, telemetry, summaryFile);

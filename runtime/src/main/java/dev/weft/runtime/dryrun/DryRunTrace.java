@@ -11,9 +11,37 @@ import java.util.List;
  * @param watchdogMasks the watchdog conditions present per tick (bit {@code code − 1})
  * @param inferenceLatencyMs every measured inference latency, in milliseconds, in order
  * @param periodErrorMs the loop's period error per tick in milliseconds on real time; null on virtual time
+ * @param frames camera frames at a few ticks (the frame a query at that tick would read), for the
+ *     report; empty without replayed cameras
  */
 public record DryRunTrace(double[] timeSeconds, List<JointTrace> joints, byte[] states, int[] watchdogMasks,
-                          double[] inferenceLatencyMs, double[] periodErrorMs) {
+                          double[] inferenceLatencyMs, double[] periodErrorMs, List<FrameSnapshot> frames) {
+
+    public DryRunTrace {
+        frames = List.copyOf(frames);
+    }
+
+    /** A trace without camera frames. */
+    public DryRunTrace(double[] timeSeconds, List<JointTrace> joints, byte[] states, int[] watchdogMasks,
+                       double[] inferenceLatencyMs, double[] periodErrorMs) {
+        this(timeSeconds, joints, states, watchdogMasks, inferenceLatencyMs, periodErrorMs, List.of());
+    }
+
+    /**
+     * One camera frame as the run saw it at one tick.
+     *
+     * @param camera the camera's name
+     * @param tickSeconds the tick's time since the start
+     * @param frameSeconds the frame's time since the start (at or before the tick), NaN when the
+     *     camera had no frame yet
+     * @param height rows
+     * @param width columns
+     * @param channels 3 (RGB order) or 1
+     * @param pixels {@code height × width × channels} bytes, rows top to bottom, RGB order
+     */
+    public record FrameSnapshot(String camera, double tickSeconds, double frameSeconds, int height, int width,
+                                int channels, byte[] pixels) {
+    }
 
     /**
      * One joint's series.

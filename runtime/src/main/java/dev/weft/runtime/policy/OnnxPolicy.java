@@ -382,7 +382,7 @@ public final class OnnxPolicy implements Policy {
             InputBinding b = spec.inputs().get(t.name());
             if (b == null) {
                 problems.add(new Problem(where, "not bound to a source (" + t.elementLabel() + " " + t.shapeText()
-                        + "); bind it to observation, history, constant, noise or step"));
+                        + "); bind it to observation, history, constant, noise, step or camera"));
                 continue;
             }
             if (!t.isTensor()) {

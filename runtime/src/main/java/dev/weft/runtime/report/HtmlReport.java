@@ -320,6 +320,30 @@ public final class HtmlReport {
             m.close("figure").raw("\n");
         }
 
+        if (!t.frames().isEmpty()) {
+            m.openWith("h3", "id", id + "-camera").text("Camera frames").close("h3");
+            m.openWith("p", "class", "explain").text("The frame a query at each of these ticks read: the camera's "
+                    + "newest frame stamped at or before the tick. Shown enlarged, pixel for pixel.").close("p");
+            m.openWith("div", "class", "frames");
+            for (DryRunTrace.FrameSnapshot f : t.frames()) {
+                m.openWith("figure", "class", "frame");
+                if (Double.isNaN(f.frameSeconds())) {
+                    m.openWith("p", "class", "small").text("no frame yet").close("p");
+                } else {
+                    int scale = Math.max(1, 160 / Math.max(1, f.width()));
+                    m.empty("img", "src", "data:image/png;base64," + FramePng.encode(f), "width",
+                            Integer.toString(f.width() * scale), "height", Integer.toString(f.height() * scale),
+                            "alt", "camera " + f.camera() + " at " + Markup.fixed(f.tickSeconds(), 3) + " s",
+                            "style", "image-rendering: pixelated");
+                }
+                m.open("figcaption").text(f.camera() + ", tick at " + Markup.fixed(f.tickSeconds(), 3) + " s"
+                        + (Double.isNaN(f.frameSeconds()) ? "" : "; frame from " + Markup.fixed(f.frameSeconds(), 3) + " s ("
+                        + Markup.fixed((f.tickSeconds() - f.frameSeconds()) * 1e3, 1) + " ms old)")).close("figcaption");
+                m.close("figure");
+            }
+            m.close("div").raw("\n");
+        }
+
         m.openWith("h3", "id", id + "-timeline").text("Supervisor state and watchdog").close("h3");
         m.openWith("figure", "class", "timeline");
         StateTimeline.write(m, id + "-tl", t.timeSeconds(), t.states(), t.watchdogMasks(), s.stops());

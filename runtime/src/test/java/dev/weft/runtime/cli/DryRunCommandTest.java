@@ -212,7 +212,7 @@ class DryRunCommandTest {
     }
 
     @Test
-    void aRecordingsCamerasAreReadAndCheckedButNotReplayed() throws Exception {
+    void aRecordingsCamerasAreReadAndCheckedAndNotReplayedWithoutACamerasSection() throws Exception {
         Path cfg = configWithCamera();
         Path rec = hdf5Recording(400, false);
         InspectCommandTest.Run r = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording", rec.toString(),
@@ -220,7 +220,7 @@ class DryRunCommandTest {
         assertThat(r.exit()).as(r.out() + r.err()).isZero();
         // 400 samples at 100 Hz are 4 s: 120 frames at 30 Hz, the last at 119/30 = 3.967 s
         assertThat(r.out()).contains("camera    wrist: 120 frames 6 × 8 rgb8, 0.000 s to 3.967 s; read and checked, "
-                + "not replayed into the loop yet").contains("PASS      wave.h5: 400 ticks");
+                + "not replayed (no cameras.wrist in the configuration)").contains("PASS      wave.h5: 400 ticks");
 
         Path bad = hdf5Recording(400, true);
         InspectCommandTest.Run refused = InspectCommandTest.weft("dry-run", cfg.toString(), "--recording",

@@ -348,7 +348,7 @@ class WeftConfigTest {
                 "policy.inputs.obs.depth (line 24): unknown key",
                 "policy.inputs.noise.stddev (line 25): must be >= 0, got -0.5",
                 "policy.inputs.extra.source (line 26): must be one of observation, history, constant, noise, step, "
-                        + "got \"camera\"",
+                        + "camera, got \"lidar\"",
                 "policy.output.chunk_length (line 27): must be >= 1, got 0",
                 "policy.output.action_size (line 27): must equal the number of joints in robot.joints (4), got 3",
                 "policy.session.optimization (line 28): must be one of none, basic, extended, all, got \"max\"",
@@ -607,7 +607,7 @@ class WeftConfigTest {
     void keysThatAreNotPlainWordsAreQuotedInPaths() {
         assertThat(problems(replace(VALID, "    obs: {source: observation}", "    \"obs.0\": {source: histroy}")))
                 .containsExactly("policy.inputs[\"obs.0\"].source (line 21): must be one of observation, history, "
-                        + "constant, noise, step, got \"histroy\"");
+                        + "constant, noise, step, camera, got \"histroy\"");
     }
 
     // ---- problems with the file itself

@@ -205,6 +205,23 @@ class CameraReplayTest {
         double[] target = r.trace().joints().get(0).target();
         int late = (int) Math.round(0.85 / PERIOD);
         assertThat(target[late]).isGreaterThan(GAIN * pixel(FRAMES - 3) / 255.0);
+        // the report's frames: at four ticks, each the newest frame at or before its tick
+        assertThat(r.trace().frames()).hasSize(4);
+        for (DryRunTrace.FrameSnapshot f : r.trace().frames()) {
+            int newest = -1;
+            for (int i = 0; i < FRAMES; i++) {
+                if (frameTime(i) <= f.tickSeconds() + 1e-9) {
+                    newest = i;
+                }
+            }
+            assertThat(newest).as("a frame before %s s", f.tickSeconds()).isNotNegative();
+            assertThat(f.frameSeconds()).isCloseTo(frameTime(newest), within(1e-9));
+            assertThat(f.pixels()[0] & 0xff).isEqualTo(pixel(newest));
+        }
+        Path html = dir.resolve("out").resolve("report.html");
+        dev.weft.runtime.report.HtmlReport.write(html, "camera", List.of(
+                new dev.weft.runtime.report.HtmlReport.Episode(r.summary(), r.trace())));
+        assertThat(Files.readString(html)).contains("Camera frames").contains("data:image/png;base64,");
         // frame ages are in the telemetry, one column for the camera
         List<String> telemetry = Files.readAllLines(r.telemetry());
         assertThat(telemetry.get(0)).contains("frame_age_ms.overhead");
