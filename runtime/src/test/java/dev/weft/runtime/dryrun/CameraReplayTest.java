@@ -246,4 +246,16 @@ class CameraReplayTest {
                 BadInputException.class);
         assertThat(crop.getMessage()).contains("policy.inputs.image.crop").contains("does not fit");
     }
+
+    @Test
+    void aLiveRunRefusesACameraWithNoSourceAndAPolicyWhoseCameraIsNotWatched() throws Exception {
+        ConfiguredRun run = run("layout: nchw");
+        try (OnnxPolicy p = run.loadPolicy()) {
+            dev.weft.runtime.Weft.Builder b = run.builderWithoutSource(p, new dev.weft.runtime.port.NullPort());
+            BadInputException noSource = catchThrowableOfType(() -> run.watchCameras(b), BadInputException.class);
+            assertThat(noSource.getMessage()).startsWith("cameras.overhead: has no source");
+            assertThatThrownBy(b::build).isInstanceOf(IllegalArgumentException.class)
+                    .hasMessageContaining("the policy reads camera overhead, which the run does not watch");
+        }
+    }
 }

@@ -129,4 +129,32 @@ class FrameRingTest {
         assertThatThrownBy(() -> new FrameRing("top", 2, 48, 64, 3, SharedFrameReader.GREY8))
                 .hasMessage("top: pixel format 2 does not fit 3 channels");
     }
+
+    @Test
+    void aCopyAtOrBeforeATimeTakesTheNewestFrameStampedNoLaterThanItWhileTheRingStillHoldsIt() {
+        FrameRing ring = new FrameRing("overhead", 4, 2, 3, 3, SharedFrameReader.RGB8);
+        int bytes = ring.frameBytes();
+        ByteBuffer in = ByteBuffer.allocate(bytes);
+        SharedFrameReader watch = ring.reader();
+        SharedFrameReader copier = watch.sibling();
+        ByteBuffer out = ByteBuffer.allocate(bytes);
+        assertThat(copier.copyAtOrBefore(Long.MAX_VALUE, out)).as("no frame yet").isEqualTo(-1);
+        for (long k = 1; k <= 10; k++) {
+            fill(in, bytes, k);
+            ring.offer(1_000L * k, in, 0);
+        }
+        // frames 7 to 10 are in the four slots; 1 to 6 were overwritten
+        assertThat(copier.copyAtOrBefore(8_500, out)).isEqualTo(8_000);
+        assertThat(whole(out, bytes, 8)).isTrue();
+        assertThat(copier.copyAtOrBefore(7_000, out)).as("exactly at a stamp").isEqualTo(7_000);
+        assertThat(whole(out, bytes, 7)).isTrue();
+        assertThat(copier.copyAtOrBefore(Long.MAX_VALUE, out)).isEqualTo(10_000);
+        assertThat(whole(out, bytes, 10)).isTrue();
+        assertThat(copier.copyAtOrBefore(6_999, out)).as("frame 6 is gone from the ring").isEqualTo(-1);
+        assertThat(copier.frames()).isEqualTo(3);
+        // the sibling's copies leave the watching reader's state alone
+        assertThat(watch.frames()).isZero();
+        assertThat(watch.latestStamp()).isEqualTo(10_000);
+        assertThat(watch.lastFrameNumber()).isZero();
+    }
 }
