@@ -180,6 +180,27 @@ final class DraftCommand implements Callable<Integer> {
                 + " trained", 1);
         w.guess(1, "query: {schedule: when_idle}", "the next request as soon as the worker is free");
 
+        // ---- cameras: one per image input
+        List<TensorSignature> images = new java.util.ArrayList<>();
+        for (TensorSignature in : sig.inputs()) {
+            if (imageLayout(in) != null) {
+                images.add(in);
+            }
+        }
+        if (!images.isEmpty()) {
+            w.line(0, "cameras:", "one stream per image input; the frames' own size, not the model's");
+            for (int i = 0; i < images.size(); i++) {
+                TensorSignature in = images.get(i);
+                w.guess(1, "camera_" + i + ":", "for input '" + in.name() + "'; rename");
+                w.decide(2, "height: " + PLACEHOLDER, "the camera's frame rows", 1);
+                w.decide(2, "width: " + PLACEHOLDER, "the camera's frame columns", 1);
+                w.guess(2, "pixel_format: " + (imageChannels(in) == 1 ? "grey8" : "rgb8"), "rgb8, bgr8 or grey8");
+                w.decide(2, "age_max: " + PLACEHOLDER, "seconds: the oldest frame the robot may act on", 1);
+                w.decide(2, "source: {kind: shared_memory, file: " + PLACEHOLDER + "}",
+                        "the frame file the camera process writes (docs/ports.md)", 1);
+            }
+        }
+
         // ---- policy
         w.line(0, "policy:", null);
         w.line(1, "model: " + quote(modelPath), null);
@@ -195,7 +216,7 @@ final class DraftCommand implements Callable<Integer> {
         for (TensorSignature in : sig.inputs()) {
             Guess g = in == observation ? new Guess("{source: observation}",
                     in.elementLabel() + " " + in.shapeText() + ": the observation vector")
-                    : bind(in, observationSize);
+                    : images.contains(in) ? imageGuess(in, images.indexOf(in)) : bind(in, observationSize);
             String text = quote(in.name()) + ": " + g.binding();
             if (g.binding().contains(PLACEHOLDER)) {
                 w.decide(2, text, g.why(), 1);
@@ -275,11 +296,39 @@ final class DraftCommand implements Callable<Integer> {
         return null;
     }
 
+    /**
+     * {@code nchw} or {@code nhwc} for an input that reads as an image (rank 4, float32 or uint8,
+     * 1 or 3 channels on axis 1 or 3, height and width fixed), else null.
+     */
+    static String imageLayout(TensorSignature t) {
+        long[] s = t.shape();
+        if (!t.isTensor() || s.length != 4 || (t.type() != OnnxJavaType.FLOAT && t.type() != OnnxJavaType.UINT8)) {
+            return null;
+        }
+        boolean nchw = (s[1] == 1 || s[1] == 3) && s[2] > 1 && s[3] > 1;
+        boolean nhwc = (s[3] == 1 || s[3] == 3) && s[1] > 1 && s[2] > 1;
+        return nchw ? "nchw" : nhwc ? "nhwc" : null;
+    }
+
+    private static long imageChannels(TensorSignature t) {
+        return "nchw".equals(imageLayout(t)) ? t.shape()[1] : t.shape()[3];
+    }
+
+    private static Guess imageGuess(TensorSignature t, int camera) {
+        String layout = imageLayout(t);
+        long c = imageChannels(t);
+        String values = t.type() == OnnxJavaType.UINT8 ? "" : ", mean: [" + PLACEHOLDER + "], std: [" + PLACEHOLDER + "]";
+        return new Guess("{source: camera, camera: camera_" + camera + ", layout: " + layout + ", resize: bilinear"
+                + values + "}", t.elementLabel() + " " + t.shapeText() + " reads as an image of " + c + " channel"
+                + (c == 1 ? "" : "s") + (values.isEmpty() ? "" : "; the mean and std per channel, as trained (after"
+                + " dividing by 255)"));
+    }
+
     /** The float input named like an observation, else the first float input. */
     private static TensorSignature observationInput(List<TensorSignature> inputs) {
         TensorSignature first = null;
         for (TensorSignature t : inputs) {
-            if (!isFloat(t) || named(t, "noise", "latent") || fixedCount(t) == 1) {
+            if (!isFloat(t) || named(t, "noise", "latent") || fixedCount(t) == 1 || imageLayout(t) != null) {
                 continue;
             }
             if (named(t, "obs", "state", "qpos", "joint")) {

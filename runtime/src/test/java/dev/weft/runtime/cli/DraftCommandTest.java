@@ -176,6 +176,41 @@ class DraftCommandTest {
     }
 
     @Test
+    void anImageInputGetsACameraStreamAndACameraBindingThatLoadOnceFilledIn() throws Exception {
+        // a model with an image [1, 3, 8, 8] and a state [1, 2], giving [1, 4, 2]
+        dev.weft.onnxkit.OnnxGraph g = dev.weft.onnxkit.OnnxGraph.named("image-state");
+        String image = g.input("image", dev.weft.onnxkit.OnnxGraph.Element.FLOAT, 1, 3, 8, 8);
+        String state = g.input("state", dev.weft.onnxkit.OnnxGraph.Element.FLOAT, 1, 2);
+        String mean = g.opWith("ReduceMean", java.util.Map.of("axes", new long[] {1, 2, 3}, "keepdims", 1L), image);
+        String spread = g.add(g.reshape(mean, 1, 1, 1), g.floats("zeros", new float[4], 1, 4, 1));
+        g.opNamed("Add", "actions", g.reshape(state, 1, 1, 2), spread);
+        g.output("actions", dev.weft.onnxkit.OnnxGraph.Element.FLOAT, 1, 4, 2);
+        Path model = g.write(dir.resolve("image-state.onnx"));
+        Path config = dir.resolve("image.yaml");
+        assertThat(weft("draft", model.toString(), config.toString()).exit()).isZero();
+        String draft = Files.readString(config);
+        assertThat(draft.lines()).contains(
+                "    state: {source: observation}        # guess: float32 [1, 2]: the observation vector",
+                "    image: {source: camera, camera: camera_0, layout: nchw, resize: bilinear, mean: [DECIDE], std:"
+                        + " [DECIDE]} # DECIDE: float32 [1, 3, 8, 8] reads as an image of 3 channels; the mean and"
+                        + " std per channel, as trained (after dividing by 255)");
+        assertThat(refusedKeys(config)).contains("cameras.camera_0.height", "cameras.camera_0.age_max");
+        String filled = fill(draft.replace("mean: [DECIDE], std: [DECIDE]", "mean: [0.5, 0.5, 0.5], std: [0.2, 0.2, 0.2]")
+                .replace("height: DECIDE", "height: 16").replace("width: DECIDE", "width: 20")
+                .replace("age_max: DECIDE", "age_max: 0.1").replace("file: DECIDE", "file: overhead.frames"));
+        WeftConfig c = WeftConfig.load(Files.writeString(dir.resolve("image-filled.yaml"), filled));
+        assertThat(c.cameras()).hasSize(1);
+        assertThat(c.cameras().get(0).frameFile()).contains(dir.resolve("overhead.frames"));
+        InputBinding.Image b = (InputBinding.Image) c.policy().inputs().get("image");
+        assertThat(b.camera()).isEqualTo("camera_0");
+        assertThat(b.frameHeight()).isEqualTo(16);
+        // and the model loads with it: a 16 × 20 frame resized to the model's 8 × 8
+        try (dev.weft.runtime.policy.OnnxPolicy p = dev.weft.runtime.ConfiguredRun.of(c).loadPolicy()) {
+            assertThat(p.cameras()).containsExactly("camera_0");
+        }
+    }
+
+    @Test
     void aFlatOutputIsGuessedAsOneActionAndSaysSo() throws Exception {
         Path model = Files.write(dir.resolve("actor.onnx"), PolicyModels.singleActionPolicy(4, 8, 4, 1).bytes());
         Path config = dir.resolve("actor.yaml");
