@@ -288,11 +288,10 @@ public final class ConfiguredRun {
             }
             dev.weft.runtime.source.SharedFrameReader reader = dev.weft.runtime.source.SharedFrameReader.open(
                     c.frameFile().get(), c.height(), c.width(), c.channels());
-            if (reader.pixelFormat() != c.pixelFormat().ordinal()) {
+            if (reader.format() != c.pixelFormat()) {
                 reader.close();
                 throw new BadInputException("cameras." + c.name() + ".pixel_format", "is " + c.pixelFormat().label()
-                        + ", the frame file " + c.frameFile().get() + " says pixel format " + reader.pixelFormat()
-                        + " (0 rgb8, 1 bgr8, 2 grey8)");
+                        + ", the frame file " + c.frameFile().get() + " holds " + reader.format().label() + " frames");
             }
             b.camera(c.name(), reader, c.ageMax());
         }

@@ -71,6 +71,8 @@ public final class Weft implements AutoCloseable {
     private final EventRelay relay;
     private final Policy policy;
     private final boolean closePolicy;
+    /** The watched cameras' readers that hold a resource (a mapped frame file), closed with the run. */
+    private final List<AutoCloseable> cameraReaders;
     private boolean started;
     private boolean closed;
 
@@ -88,6 +90,12 @@ public final class Weft implements AutoCloseable {
         this.policy = b.policy;
         this.closePolicy = b.closePolicy;
         this.builderClock = b.clock;
+        this.cameraReaders = new ArrayList<>();
+        for (ControlLoop.Camera c : b.cameras) {
+            if (c.reader() instanceof AutoCloseable a) {
+                cameraReaders.add(a);
+            }
+        }
     }
 
     /**
@@ -268,6 +276,15 @@ public final class Weft implements AutoCloseable {
         }
         if (closePolicy) {
             run(errors, policy::close);
+        }
+        for (AutoCloseable a : cameraReaders) {
+            run(errors, () -> {
+                try {
+                    a.close();
+                } catch (Exception e) {
+                    throw new IllegalStateException("closing a camera's frames: " + e.getMessage(), e);
+                }
+            });
         }
         if (!errors.isEmpty()) {
             RuntimeException e = new IllegalStateException("closing the run: " + errors.get(0).getMessage(), errors.get(0));
@@ -456,7 +473,7 @@ public final class Weft implements AutoCloseable {
          * any frame ring): every tick the age of its latest frame is checked against
          * {@code ageMaxSeconds} (the frame-stale condition stops the robot; no frame yet counts as
          * stale, so arming waits for the camera) and recorded in telemetry as
-         * {@code frame_age_ms.<name>}. The reader becomes the loop's own; a policy that reads this
+         * {@code frame_age_ms.<name>}. The reader becomes the loop's own (closed with the run); a policy that reads this
          * camera ({@link Policy#cameras()}) is given a {@linkplain dev.weft.runtime.image.FrameSource#sibling()
          * sibling} of it, read on the inference thread.
          */

@@ -25,6 +25,18 @@ public enum PixelFormat {
         return label;
     }
 
+    /**
+     * The number the shared-memory frame header uses for this format (byte 28:
+     * {@code SharedFrameReader.RGB8}, {@code BGR8}, {@code GREY8}).
+     */
+    public int headerCode() {
+        return switch (this) {
+            case RGB8 -> 0;
+            case BGR8 -> 1;
+            case GREY8 -> 2;
+        };
+    }
+
     /** Bytes per pixel: 3 or 1. */
     public int channels() {
         return channels;

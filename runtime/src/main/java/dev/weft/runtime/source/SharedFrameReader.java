@@ -53,10 +53,20 @@ public final class SharedFrameReader implements AutoCloseable, dev.weft.runtime.
     public static final String MAGIC = "WEFTIMG1";
     /** Tries before {@link #latest} gives up for this call (the writer kept overtaking the copy). */
     public static final int ATTEMPTS = 4;
-    /** Pixel formats, as the header numbers them. */
+    /** Pixel formats, as the header numbers them ({@code recording.PixelFormat#headerCode()}). */
     public static final int RGB8 = 0;
     public static final int BGR8 = 1;
     public static final int GREY8 = 2;
+
+    /** The header's pixel format as the configuration names it. */
+    public dev.weft.runtime.recording.PixelFormat format() {
+        for (dev.weft.runtime.recording.PixelFormat f : dev.weft.runtime.recording.PixelFormat.values()) {
+            if (f.headerCode() == format) {
+                return f;
+            }
+        }
+        throw new IllegalStateException("pixel format " + format + " was checked when the file was opened");
+    }
 
     private static final VarHandle LONGS = MethodHandles.byteBufferViewVarHandle(long[].class, ByteOrder.LITTLE_ENDIAN);
 

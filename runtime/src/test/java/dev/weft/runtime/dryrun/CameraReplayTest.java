@@ -258,4 +258,33 @@ class CameraReplayTest {
                     .hasMessageContaining("the policy reads camera overhead, which the run does not watch");
         }
     }
+
+    /** An empty frame file for 4 × 4 × 3 frames, two slots, laid out as docs/ports.md gives it. */
+    private Path frameFile(int format) throws Exception {
+        java.nio.ByteBuffer b = java.nio.ByteBuffer.allocate(64 + 2 * 128).order(java.nio.ByteOrder.LITTLE_ENDIAN);
+        b.put(0, "WEFTIMG1".getBytes(java.nio.charset.StandardCharsets.ISO_8859_1));
+        b.putInt(8, 1).putInt(12, 2).putInt(16, 4).putInt(20, 4).putInt(24, 3).putInt(28, format).putLong(32, 128);
+        return Files.write(dir.resolve("overhead-" + format + ".frames"), b.array());
+    }
+
+    @Test
+    void aLiveRunMapsTheConfiguredFrameFileAndChecksItsPixelFormat() throws Exception {
+        String live = "source: {kind: shared_memory, file: overhead-%d.frames}}";
+        for (int format : new int[] {0, 1}) {
+            frameFile(format);
+            String yaml = yaml("layout: nchw").replace("age_max: 0.15}", "age_max: 0.15, " + live.formatted(format));
+            ConfiguredRun run = ConfiguredRun.of(WeftConfig.parse(yaml, dir, "live.yaml"));
+            try (OnnxPolicy p = run.loadPolicy()) {
+                dev.weft.runtime.Weft.Builder b = run.builderWithoutSource(p, new dev.weft.runtime.port.NullPort());
+                if (format == 0) {
+                    run.watchCameras(b);
+                    b.build().close();
+                } else {
+                    BadInputException bgr = catchThrowableOfType(() -> run.watchCameras(b), BadInputException.class);
+                    assertThat(bgr.getMessage()).startsWith("cameras.overhead.pixel_format: is rgb8, the frame file "
+                            + dir.resolve("overhead-1.frames") + " holds bgr8 frames");
+                }
+            }
+        }
+    }
 }
