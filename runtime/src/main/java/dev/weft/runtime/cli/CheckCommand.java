@@ -10,6 +10,7 @@ import dev.weft.runtime.telemetry.TargetFile;
 import java.io.PrintWriter;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.List;
 import java.util.Locale;
 import java.util.concurrent.Callable;
 import org.HdrHistogram.Histogram;
@@ -100,6 +101,19 @@ final class CheckCommand implements Callable<Integer> {
                 out.printf(Locale.ROOT, "model          %s: K = %d actions of D = %d values (layout %s, output '%s')%n",
                         c.policy().model(), policy.chunkLength(), policy.actionSize(), policy.layout().label(),
                         policy.outputName());
+            }
+            for (dev.weft.runtime.config.CameraConfig cam : c.cameras()) {
+                List<String> readers = new java.util.ArrayList<>();
+                c.policy().inputs().forEach((name, b) -> {
+                    if (b instanceof dev.weft.runtime.policy.InputBinding.Image i && i.camera().equals(cam.name())) {
+                        readers.add("'" + name + "'");
+                    }
+                });
+                out.printf(Locale.ROOT, "camera         %s: %d × %d %s, newest frame at most %s old; frames from %s; %s%n",
+                        cam.name(), cam.height(), cam.width(), cam.pixelFormat().label(), Units.seconds(cam.ageMax()),
+                        cam.frameFile().map(Object::toString).orElse(cam.embedded() ? "the embedding program"
+                                : "the recording (dry runs only)"),
+                        readers.isEmpty() ? "watched only" : "read by input " + String.join(", ", readers));
             }
             if (telemetry != null) {
                 out.printf("telemetry      %s (%s when the run ends)%n", telemetry.file(),

@@ -208,6 +208,9 @@ class DraftCommandTest {
         try (dev.weft.runtime.policy.OnnxPolicy p = dev.weft.runtime.ConfiguredRun.of(c).loadPolicy()) {
             assertThat(p.cameras()).containsExactly("camera_0");
         }
+        InspectCommandTest.Run check = weft("check", dir.resolve("image-filled.yaml").toString());
+        assertThat(check.out()).as(check.err()).contains("camera         camera_0: 16 × 20 rgb8, newest frame at most ")
+                .contains("frames from " + dir.resolve("overhead.frames") + "; read by input 'image'");
     }
 
     @Test

@@ -278,7 +278,7 @@ class OnnxPolicyTest {
         assertThat(e.problems()).extracting(Object::toString).containsExactly(
                 m + " input 'observation': the model has no such input; its inputs are 'obs' float32 [1, 4]",
                 m + " input 'obs': not bound to a source (float32 [1, 4]); bind it to observation, history, constant,"
-                        + " noise or step",
+                        + " noise, step or camera",
                 m + " output 'acts': the model has no such output; its outputs are 'actions' float32 [1, 16, 3]");
         assertThat(e.getMessage()).startsWith("3 problems:");
     }
