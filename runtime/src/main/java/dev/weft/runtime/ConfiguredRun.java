@@ -268,11 +268,14 @@ public final class ConfiguredRun {
         return b;
     }
 
+    /** Slots of an embedded camera's ring: at 30 Hz, 266 ms of frames for the inference thread to find its frame in. */
+    public static final int EMBEDDED_RING_SLOTS = 8;
+
     /**
-     * Watches every configured camera whose frames come from a shared-memory frame file (the file
-     * is mapped and its header checked now); a camera with {@code source: {kind: embedded}} is left
-     * to the embedding program, which gives its {@code FrameRing} with
-     * {@link Weft.Builder#camera(String, dev.weft.runtime.source.FrameRing, double)}.
+     * Watches every configured camera: one whose frames come from a shared-memory frame file (the
+     * file is mapped and its header checked now), or, with {@code source: {kind: embedded}}, one
+     * whose frames the embedding program offers into an in-process ring of
+     * {@link #EMBEDDED_RING_SLOTS} slots ({@link Weft#frameRing(String)}).
      *
      * @throws BadInputException naming {@code cameras.<name>} when a camera has no live source, or
      *     its frame file is missing or does not fit
@@ -280,6 +283,8 @@ public final class ConfiguredRun {
     public void watchCameras(Weft.Builder b) throws BadInputException {
         for (dev.weft.runtime.config.CameraConfig c : config.cameras()) {
             if (c.embedded()) {
+                b.camera(c.name(), new dev.weft.runtime.source.FrameRing(c.name(), EMBEDDED_RING_SLOTS, c.height(),
+                        c.width(), c.channels(), c.pixelFormat().headerCode()), c.ageMax());
                 continue;
             }
             if (c.frameFile().isEmpty()) {

@@ -71,6 +71,8 @@ public final class Weft implements AutoCloseable {
     private final EventRelay relay;
     private final Policy policy;
     private final boolean closePolicy;
+    /** The in-process frame rings of embedded cameras, by name. */
+    private final java.util.Map<String, dev.weft.runtime.source.FrameRing> rings;
     /** The watched cameras' readers that hold a resource (a mapped frame file), closed with the run. */
     private final List<AutoCloseable> cameraReaders;
     private boolean started;
@@ -90,6 +92,7 @@ public final class Weft implements AutoCloseable {
         this.policy = b.policy;
         this.closePolicy = b.closePolicy;
         this.builderClock = b.clock;
+        this.rings = java.util.Map.copyOf(b.rings);
         this.cameraReaders = new ArrayList<>();
         for (ControlLoop.Camera c : b.cameras) {
             if (c.reader() instanceof AutoCloseable a) {
@@ -156,6 +159,22 @@ public final class Weft implements AutoCloseable {
             throw new IllegalStateException("this run reads " + source.describe() + ", not offered observations");
         }
         return embedded.offer(timeNanos, values);
+    }
+
+    /**
+     * The frame ring of an embedded camera, for the embedding program's camera thread to
+     * {@linkplain dev.weft.runtime.source.FrameRing#offer offer} frames into (one writing thread;
+     * copies into a preallocated slot, never blocks, allocates nothing).
+     *
+     * @throws IllegalArgumentException when the run has no embedded camera of that name
+     */
+    public dev.weft.runtime.source.FrameRing frameRing(String camera) {
+        dev.weft.runtime.source.FrameRing r = rings.get(camera);
+        if (r == null) {
+            throw new IllegalArgumentException("the run has no embedded camera named " + camera + "; embedded cameras: "
+                    + rings.keySet());
+        }
+        return r;
     }
 
     /**
@@ -336,6 +355,7 @@ public final class Weft implements AutoCloseable {
         private double planRangeSlack;
         private int stallPeriods = LoopSettings.DEFAULT_STALL_PERIODS;
         private final List<ControlLoop.Camera> cameras = new ArrayList<>();
+        private final java.util.Map<String, dev.weft.runtime.source.FrameRing> rings = new java.util.LinkedHashMap<>();
 
         private Builder(JointLimits limits, double period) {
             if (limits == null) {
@@ -492,7 +512,9 @@ public final class Weft implements AutoCloseable {
 
         /** As {@link #camera(String, dev.weft.runtime.image.FrameSource, double)}, for frames offered in this process. */
         public Builder camera(String name, dev.weft.runtime.source.FrameRing ring, double ageMaxSeconds) {
-            return camera(name, ring.reader(), ageMaxSeconds);
+            camera(name, ring.reader(), ageMaxSeconds);
+            rings.put(name, ring);
+            return this;
         }
 
         /** Hears every transition, on weft's event thread. */

@@ -287,4 +287,21 @@ class CameraReplayTest {
             }
         }
     }
+
+    @Test
+    void anEmbeddedCameraGetsARingTheEmbeddingProgramOffersFramesInto() throws Exception {
+        String yaml = yaml("layout: nchw").replace("age_max: 0.15}", "age_max: 0.15, source: {kind: embedded}}");
+        ConfiguredRun run = ConfiguredRun.of(WeftConfig.parse(yaml, dir, "embedded.yaml"));
+        OnnxPolicy p = run.loadPolicy();
+        dev.weft.runtime.Weft.Builder b = run.builderWithoutSource(p, new dev.weft.runtime.port.NullPort());
+        run.watchCameras(b);
+        try (dev.weft.runtime.Weft weft = b.build()) {
+            dev.weft.runtime.source.FrameRing ring = weft.frameRing("overhead");
+            assertThat(ring.frameBytes()).isEqualTo(4 * 4 * 3);
+            java.nio.ByteBuffer frame = java.nio.ByteBuffer.allocate(48);
+            assertThat(ring.offer(1_000, frame, 0)).isTrue();
+            assertThat(ring.offer(1_000, frame, 0)).as("a stamp not newer is refused").isFalse();
+            assertThatThrownBy(() -> weft.frameRing("wrist")).hasMessageContaining("no embedded camera named wrist");
+        }
+    }
 }
