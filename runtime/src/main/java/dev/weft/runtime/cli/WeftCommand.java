@@ -51,9 +51,11 @@ public final class WeftCommand implements Runnable {
     }
 
     public static void main(String[] args) {
-        // the HDF5 reader logs every file it opens; the command line keeps that out of the way
+        // the HDF5 reader logs every file it opens, and warns about an attribute of its own in every
+        // file it wrote (a message with bytes left over); the command line keeps both out of the way
+        // and leaves its errors, while weft's own checks name every problem in a recording
         if (System.getProperty("org.slf4j.simpleLogger.log.io.jhdf") == null) {
-            System.setProperty("org.slf4j.simpleLogger.log.io.jhdf", "warn");
+            System.setProperty("org.slf4j.simpleLogger.log.io.jhdf", "error");
         }
         System.exit(commandLine().execute(args));
     }
