@@ -81,6 +81,7 @@ public final class DemoConfig {
                   query:
                     schedule: fixed
                     every_ticks: %d  # one inference call every %s s
+                  dry_run_latency: 0.002  # dry runs model one tick of inference latency on any machine
                 policy:
                   model: %s
                   observation_size: %d  # q of the six joints, then dq

@@ -206,11 +206,12 @@ final class ConfigParser {
         } else {
             spin = control == null ? null : Math.min(WeftConfig.DEFAULT_SPIN_WINDOW, control / 2);
         }
+        Double dryRunLatency = s.has("dry_run_latency") ? s.positive("dry_run_latency", null) : Double.valueOf(Double.NaN);
         s.done();
         if (r.count() != before) {
             return null;
         }
-        return new TimingConfig(control, step, schedule, every, spin);
+        return new TimingConfig(control, step, schedule, every, spin, dryRunLatency);
     }
 
     // ---- policy

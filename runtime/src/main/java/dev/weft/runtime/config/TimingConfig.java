@@ -10,9 +10,23 @@ package dev.weft.runtime.config;
  *     {@link QuerySchedule#WHEN_IDLE}
  * @param spinWindow how long before each deadline the loop stops parking and spins, in
  *     {@code [0, controlPeriod)}
+ * @param dryRunLatency the inference latency a dry run on virtual time models, s (rounded up to
+ *     whole ticks), instead of the latency it measures: the same files on any machine and load;
+ *     NaN when not configured
  */
 public record TimingConfig(double controlPeriod, double policyStep, QuerySchedule schedule, int everyTicks,
-                           double spinWindow) {
+                           double spinWindow, double dryRunLatency) {
+
+    /** Without a configured dry-run latency (dry runs model the measured one). */
+    public TimingConfig(double controlPeriod, double policyStep, QuerySchedule schedule, int everyTicks,
+                        double spinWindow) {
+        this(controlPeriod, policyStep, schedule, everyTicks, spinWindow, Double.NaN);
+    }
+
+    /** The dry-run latency in whole control ticks (rounded up, at least 1), or −1 when not configured. */
+    public long dryRunLatencyTicks() {
+        return Double.isNaN(dryRunLatency) ? -1 : Math.max(1, (long) Math.ceil(dryRunLatency / controlPeriod - 1e-9));
+    }
 
     /** When the control loop asks the policy for a new chunk. */
     public enum QuerySchedule {

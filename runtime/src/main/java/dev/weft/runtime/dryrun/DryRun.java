@@ -59,7 +59,8 @@ public final class DryRun {
      * @param name the run's name for the summary and report
      * @param closedLoop observations from the simulated plant instead of the recording
      * @param realtime paced at the control period on the real clock (measures real jitter; not deterministic)
-     * @param latencyTicks modelled inference latency in ticks; -1 for the measured p99 rounded up
+     * @param latencyTicks modelled inference latency in ticks; -1 for {@code timing.dry_run_latency}
+     *     when configured, else the measured p99 rounded up
      * @param gates what the run is judged by
      * @param progress where to write a progress line (a terminal), or null
      */
@@ -125,7 +126,8 @@ public final class DryRun {
             latencyMs[i] = latencies[i] / 1e6;
         }
         DryRunSummary.Percentiles inferenceMs = percentiles(latencyMs);
-        long latencyTicks = o.latencyTicks() >= 0 ? o.latencyTicks()
+        long configured = run.config().timing().dryRunLatencyTicks();
+        long latencyTicks = o.latencyTicks() >= 0 ? o.latencyTicks() : configured >= 0 ? configured
                 : Math.max(1, (long) Math.ceil(inferenceMs.p99() / 1e3 / period - 1e-9));
 
         Files.createDirectories(o.reportDir());

@@ -304,4 +304,20 @@ class CameraReplayTest {
             assertThatThrownBy(() -> weft.frameRing("wrist")).hasMessageContaining("no embedded camera named wrist");
         }
     }
+
+    @Test
+    void aConfiguredDryRunLatencyIsModelledWhateverThisMachineMeasures() throws Exception {
+        String yaml = yaml("resize: area, layout: nchw").replace("  policy_step: 0.02\n",
+                "  policy_step: 0.02\n  dry_run_latency: 0.025\n");
+        ConfiguredRun run = ConfiguredRun.of(WeftConfig.parse(yaml, dir, "latency.yaml"));
+        WeftConfig c = run.config();
+        DryRun.Result r = DryRun.run(run, Recordings.read(recordingFile, c.recordingSpec().orElseThrow()),
+                Recordings.readCameras(recordingFile, c.recordingSpec().orElseThrow()),
+                new DryRun.Options(dir.resolve("latency"), "latency", false, false, -1, GateThresholds.DEFAULTS, null));
+        // 0.025 s at 0.01 s per tick, rounded up
+        assertThat(r.summary().latencyTicks()).isEqualTo(3);
+        BadInputException bad = catchThrowableOfType(() -> WeftConfig.parse(
+                yaml.replace("dry_run_latency: 0.025", "dry_run_latency: 0"), dir, "c.yaml"), BadInputException.class);
+        assertThat(bad.getMessage()).contains("timing.dry_run_latency").contains("must be > 0");
+    }
 }
