@@ -449,8 +449,8 @@ public final class OnnxPolicy implements Policy {
         long h = nchw ? s[2] : s[1];
         long w = nchw ? s[3] : s[2];
         if (c != image.frameChannels()) {
-            problems.add(new Problem(where, "has " + c + " channels " + axes.replace("[1, ", "(axis of ")
-                    .replace("]", ")") + ", camera " + image.camera() + " gives " + image.frameChannels()
+            problems.add(new Problem(where, "has " + c + " channels (C of " + axes + ", layout "
+                    + image.layout().label() + "), camera " + image.camera() + " gives " + image.frameChannels()
                     + (nchw && s[3] == image.frameChannels() ? "; is the layout nhwc?" : "")
                     + (!nchw && s[1] == image.frameChannels() ? "; is the layout nchw?" : "")));
             return null;
