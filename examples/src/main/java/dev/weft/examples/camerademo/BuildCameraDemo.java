@@ -20,9 +20,6 @@ import java.util.Locale;
 import java.util.Map;
 import java.util.SplittableRandom;
 import org.ejml.data.DMatrixRMaj;
-import org.ejml.dense.row.CommonOps_DDRM;
-import org.ejml.dense.row.factory.LinearSolverFactory_DDRM;
-import org.ejml.interfaces.linsol.LinearSolverDense;
 
 /**
  * Builds weft's second demo scenario, the seed-tray cell, invented for the demo: a three-joint arm
@@ -382,19 +379,7 @@ public final class BuildCameraDemo {
                 }
             }
         }
-        DMatrixRMaj a = new DMatrixRMaj(cols, cols);
-        DMatrixRMaj b = new DMatrixRMaj(cols, outs);
-        CommonOps_DDRM.multTransA(xm, xm, a);
-        CommonOps_DDRM.multTransA(xm, ym, b);
-        for (int p = 0; p < cols; p++) {
-            a.add(p, p, LAMBDA);
-        }
-        DMatrixRMaj wd = new DMatrixRMaj(cols, outs);
-        LinearSolverDense<DMatrixRMaj> solver = LinearSolverFactory_DDRM.symmPosDef(cols);
-        if (!solver.setA(a)) {
-            throw new IllegalStateException("the ridge system is not positive definite");
-        }
-        solver.solve(b, wd);
+        DMatrixRMaj wd = dev.weft.examples.demo.ChunkRegression.ridge(xm, ym, LAMBDA);
         double[][] w = new double[cols][outs];
         for (int p = 0; p < cols; p++) {
             for (int o = 0; o < outs; o++) {

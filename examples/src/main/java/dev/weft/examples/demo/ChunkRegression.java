@@ -209,6 +209,30 @@ public final class ChunkRegression {
     }
 
     /**
+     * Ridge regression: the {@code W} minimising {@code |X·W − Y|² + λ|W|²}, from the normal
+     * equations {@code (XᵀX + λI)·W = XᵀY} solved by Cholesky decomposition.
+     *
+     * @throws IllegalArgumentException when the normal equations are not positive definite
+     */
+    public static DMatrixRMaj ridge(DMatrixRMaj x, DMatrixRMaj y, double lambda) {
+        int cols = x.numCols;
+        DMatrixRMaj a = new DMatrixRMaj(cols, cols);
+        DMatrixRMaj b = new DMatrixRMaj(cols, y.numCols);
+        CommonOps_DDRM.multTransA(x, x, a);
+        CommonOps_DDRM.multTransA(x, y, b);
+        for (int f = 0; f < cols; f++) {
+            a.add(f, f, lambda);
+        }
+        LinearSolverDense<DMatrixRMaj> chol = LinearSolverFactory_DDRM.chol(cols);
+        if (!chol.setA(a)) {
+            throw new IllegalArgumentException("the normal equations are not positive definite (λ = " + lambda + ")");
+        }
+        DMatrixRMaj w = new DMatrixRMaj(cols, y.numCols);
+        chol.solve(b, w);
+        return w;
+    }
+
+    /**
      * Fits the policy to {@code episodes} with penalty {@code lambda} on the residual weights.
      *
      * @throws IllegalArgumentException when an episode is not sampled uniformly or the normal
@@ -216,20 +240,7 @@ public final class ChunkRegression {
      */
     public static Fit fit(List<Episode> episodes, double lambda) {
         DMatrixRMaj x = design(episodes);
-        DMatrixRMaj y = residual(x, targets(episodes));
-        DMatrixRMaj a = new DMatrixRMaj(FEATURES, FEATURES);
-        DMatrixRMaj b = new DMatrixRMaj(FEATURES, TARGETS);
-        CommonOps_DDRM.multTransA(x, x, a);
-        CommonOps_DDRM.multTransA(x, y, b);
-        for (int f = 0; f < FEATURES; f++) {
-            a.add(f, f, lambda);
-        }
-        LinearSolverDense<DMatrixRMaj> chol = LinearSolverFactory_DDRM.chol(FEATURES);
-        if (!chol.setA(a)) {
-            throw new IllegalArgumentException("the normal equations are not positive definite (λ = " + lambda + ")");
-        }
-        DMatrixRMaj w = new DMatrixRMaj(FEATURES, TARGETS);
-        chol.solve(b, w);
+        DMatrixRMaj w = ridge(x, residual(x, targets(episodes)), lambda);
         for (int t = 0; t < TARGETS; t++) {
             w.add(CURRENT_POSITION + t % DipCell.D, t, 1.0);
         }

@@ -350,8 +350,8 @@ final class ConfigParser {
                     + camerasByName.keySet());
         }
         int channels = cam == null ? 3 : cam.channels();
-        double[] mean = b.has("mean") ? numbers(b, "mean") : filled(channels, 0);
-        double[] std = b.has("std") ? numbers(b, "std") : filled(channels, 1);
+        double[] mean = b.has("mean") ? b.numbers("mean") : filled(channels, 0);
+        double[] std = b.has("std") ? b.numbers("std") : filled(channels, 1);
         if (mean != null && mean.length != channels) {
             b.problem("mean", "needs " + channels + " values, one per channel, got " + mean.length);
             mean = null;
@@ -380,22 +380,6 @@ final class ConfigParser {
         }
         return new InputBinding.Image(camera, cam.height(), cam.width(), channels,
                 cam.pixelFormat() == PixelFormat.BGR8, crop, resize, layout, order.equals("bgr"), unit, mean, std);
-    }
-
-    private double[] numbers(Section v, String key) {
-        Map<String, JsonNode> list = v.list(key, true);
-        if (list == null) {
-            return null;
-        }
-        double[] out = new double[list.size()];
-        int i = 0;
-        boolean ok = true;
-        for (Map.Entry<String, JsonNode> e : list.entrySet()) {
-            Double d = r.finite(e.getKey(), e.getValue());
-            ok &= d != null;
-            out[i++] = d == null ? 0 : d;
-        }
-        return ok ? out : null;
     }
 
     private static double[] filled(int n, double v) {

@@ -4,7 +4,6 @@ import com.fasterxml.jackson.databind.JsonNode;
 import dev.weft.runtime.config.TreeReader.Section;
 import dev.weft.runtime.policy.NormalisationSpec;
 import dev.weft.runtime.policy.ValueScale;
-import java.util.Map;
 
 /**
  * Reads {@code policy.normalisation}: for {@code observation} and for {@code actions}, either
@@ -74,8 +73,8 @@ final class NormalisationSection {
         String firstKey = meanStd ? "mean" : "min";
         String secondKey = meanStd ? "std" : "max";
         int before = r.count();
-        double[] a = numbers(v, firstKey);
-        double[] b = numbers(v, secondKey);
+        double[] a = v.numbers(firstKey);
+        double[] b = v.numbers(secondKey);
         v.done();
         if (a == null || b == null || r.count() != before) {
             return null;
@@ -92,21 +91,5 @@ final class NormalisationSection {
         }
         String source = r.where(s.pathOf(key));
         return meanStd ? ValueScale.meanStd(a, b, source) : ValueScale.minMax(a, b, source);
-    }
-
-    private double[] numbers(Section v, String key) {
-        Map<String, JsonNode> list = v.list(key, true);
-        if (list == null) {
-            return null;
-        }
-        double[] out = new double[list.size()];
-        int i = 0;
-        boolean ok = true;
-        for (Map.Entry<String, JsonNode> e : list.entrySet()) {
-            Double d = r.finite(e.getKey(), e.getValue());
-            ok &= d != null;
-            out[i++] = d == null ? 0 : d;
-        }
-        return ok ? out : null;
     }
 }

@@ -202,6 +202,23 @@ final class TreeReader {
             return out;
         }
 
+        /** A required list of finite numbers, or null with a problem for each element that is not one. */
+        double[] numbers(String key) {
+            Map<String, JsonNode> list = list(key, true);
+            if (list == null) {
+                return null;
+            }
+            double[] out = new double[list.size()];
+            int i = 0;
+            boolean ok = true;
+            for (Map.Entry<String, JsonNode> e : list.entrySet()) {
+                Double d = finite(e.getKey(), e.getValue());
+                ok &= d != null;
+                out[i++] = d == null ? 0 : d;
+            }
+            return ok ? out : null;
+        }
+
         /** A map element of a list (at {@code elementPath}), or null with a problem when it is not a map. */
         Section element(String elementPath, JsonNode n) {
             if (n == null || !n.isObject()) {

@@ -181,13 +181,10 @@ public final class DryRun {
         }
         List<RecordedCamera> replayed = new ArrayList<>();
         for (dev.weft.runtime.config.CameraConfig c : run.config().cameras()) {
-            for (RecordedFrames f : cameras) {
-                if (f.camera().equals(c.name())) {
-                    RecordedCamera rc = new RecordedCamera(f, clock, start, recording.time(0));
-                    replayed.add(rc);
-                    b.camera(c.name(), rc, c.ageMax());
-                }
-            }
+            // checkCameras made sure each one is there
+            RecordedCamera rc = new RecordedCamera(framesOf(c.name(), cameras), clock, start, recording.time(0));
+            replayed.add(rc);
+            b.camera(c.name(), rc, c.ageMax());
         }
         Weft weft = b.build();
         long wallStart = System.nanoTime();
@@ -235,7 +232,7 @@ public final class DryRun {
                 stops.add(new DryRunSummary.Stop(e[0], e[1] / 1e9, (int) e[2], Cause.message((int) e[2])));
             }
         }
-        List<DryRunTrace.FrameSnapshot> snapshots = snapshots(replayed, run.config().cameras(), start, s.time, periodNanos);
+        List<DryRunTrace.FrameSnapshot> snapshots = snapshots(replayed, start, s.time);
         return finish(run, recording, o, s, commandRows, violations, staleDropped, deferred, stops, inferenceMs, latencyMs,
                 latencyTicks, weft.loop().autoArmResult(), commands, telemetry, rows, snapshots);
     }
@@ -249,15 +246,13 @@ public final class DryRun {
      * Each replayed camera's frame at {@link #SNAPSHOTS} ticks spread over the ticks run (at 1/8,
      * 3/8, 5/8, 7/8): the newest frame at or before each tick, as a query there would read it.
      */
-    private static List<DryRunTrace.FrameSnapshot> snapshots(List<RecordedCamera> cameras,
-                                                             List<dev.weft.runtime.config.CameraConfig> configs,
-                                                             long start, double[] tickTimes, long periodNanos) {
+    private static List<DryRunTrace.FrameSnapshot> snapshots(List<RecordedCamera> cameras, long start,
+                                                             double[] tickTimes) {
         List<DryRunTrace.FrameSnapshot> out = new ArrayList<>();
         if (tickTimes.length == 0) {
             return out;
         }
-        for (int c = 0; c < cameras.size(); c++) {
-            RecordedCamera cam = cameras.get(c);
+        for (RecordedCamera cam : cameras) {
             RecordedFrames f = cam.frames();
             int step = Math.max(1, (f.width() + SNAPSHOT_WIDTH_MAX - 1) / SNAPSHOT_WIDTH_MAX);
             int h = (f.height() + step - 1) / step;
@@ -290,17 +285,22 @@ public final class DryRun {
         return out;
     }
 
+    /** The recorded frames of camera {@code name}, or null. */
+    private static RecordedFrames framesOf(String name, List<RecordedFrames> cameras) {
+        for (RecordedFrames f : cameras) {
+            if (f.camera().equals(name)) {
+                return f;
+            }
+        }
+        return null;
+    }
+
     /** Every configured camera is in the recording, with the configured frame size and pixel format. */
     private static void checkCameras(ConfiguredRun run, Recording recording, List<RecordedFrames> cameras)
             throws BadInputException {
         List<BadInputException.Problem> problems = new ArrayList<>();
         for (dev.weft.runtime.config.CameraConfig c : run.config().cameras()) {
-            RecordedFrames found = null;
-            for (RecordedFrames f : cameras) {
-                if (f.camera().equals(c.name())) {
-                    found = f;
-                }
-            }
+            RecordedFrames found = framesOf(c.name(), cameras);
             if (found == null) {
                 problems.add(new BadInputException.Problem(recording.source(), "camera " + c.name()
                         + " (cameras." + c.name() + ") has no frames here: list its datasets under recording.cameras."

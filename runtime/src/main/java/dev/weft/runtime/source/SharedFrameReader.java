@@ -212,30 +212,59 @@ public final class SharedFrameReader implements AutoCloseable, dev.weft.runtime.
             if (k <= 0 || k == lastNumber) {
                 return -1;
             }
-            int slot = (int) Long.remainderUnsigned(k, slots);
-            int base = (int) (HEADER_BYTES + slot * stride);
-            long before = (long) LONGS.getAcquire(map, base);
-            if (before != 2 * k) {
-                // the writer is in this slot already (a newer frame) or never finished it
-                torn++;
-                continue;
+            long stamp = copy(k, Long.MAX_VALUE, out);
+            if (stamp >= 0) {
+                return stamp;
             }
-            long stamp = (long) LONGS.getAcquire(map, base + 8);
-            long number = (long) LONGS.getAcquire(map, base + 16);
-            out.put(0, map, base + SLOT_HEADER_BYTES, frameBytes);
-            // the copy's loads complete before the sequence is read again
-            VarHandle.acquireFence();
-            long after = (long) LONGS.getAcquire(map, base);
-            if (after != before || number != k) {
-                torn++;
-                continue;
-            }
-            lastNumber = k;
-            lastStamp = stamp;
-            frames++;
-            return stamp;
+            // the writer was in the slot (a newer frame) or never finished it: try again
         }
         return -1;
+    }
+
+    /** {@link #copy}: the slot holds another frame or the writer is in it. */
+    private static final long NOT_THERE = -1;
+    /** {@link #copy}: frame {@code k} is there, stamped after the time asked for. */
+    private static final long TOO_NEW = -2;
+
+    /**
+     * Copies frame {@code k} out of its slot under the seqlock when it is there, finished, and
+     * stamped at or before {@code notAfter}: the sequence read before and after the copy must both
+     * be {@code 2k}. A slot the writer is in (an odd sequence), or one it entered during the copy,
+     * counts as a torn read.
+     *
+     * @return the frame's stamp, {@link #NOT_THERE} or {@link #TOO_NEW}
+     */
+    private long copy(long k, long notAfter, ByteBuffer out) {
+        int base = (int) (HEADER_BYTES + Long.remainderUnsigned(k, slots) * stride);
+        long before = (long) LONGS.getAcquire(map, base);
+        if (before != 2 * k) {
+            if ((before & 1) != 0) {
+                // the writer is in the slot
+                torn++;
+            }
+            return NOT_THERE;
+        }
+        long stamp = (long) LONGS.getAcquire(map, base + 8);
+        long number = (long) LONGS.getAcquire(map, base + 16);
+        if (stamp > notAfter) {
+            if ((long) LONGS.getAcquire(map, base) != before) {
+                torn++;
+                return NOT_THERE;
+            }
+            return TOO_NEW;
+        }
+        out.put(0, map, base + SLOT_HEADER_BYTES, frameBytes);
+        // the copy's loads complete before the sequence is read again
+        VarHandle.acquireFence();
+        long after = (long) LONGS.getAcquire(map, base);
+        if (after != before || number != k) {
+            torn++;
+            return NOT_THERE;
+        }
+        lastNumber = k;
+        lastStamp = stamp;
+        frames++;
+        return stamp;
     }
 
     /**
@@ -277,35 +306,11 @@ public final class SharedFrameReader implements AutoCloseable, dev.weft.runtime.
     public long copyAtOrBefore(long timeNanos, ByteBuffer out) {
         long newest = (long) LONGS.getAcquire(map, 40);
         for (long k = newest; k > 0 && k > newest - slots; k--) {
-            int base = (int) (HEADER_BYTES + Long.remainderUnsigned(k, slots) * stride);
-            long before = (long) LONGS.getAcquire(map, base);
-            if (before != 2 * k) {
-                // overwritten by a newer frame, or being written: not frame k any more
-                if (before == 2 * k - 1) {
-                    torn++;
-                }
-                continue;
+            long stamp = copy(k, timeNanos, out);
+            if (stamp >= 0) {
+                return stamp;
             }
-            long stamp = (long) LONGS.getAcquire(map, base + 8);
-            long number = (long) LONGS.getAcquire(map, base + 16);
-            if (stamp > timeNanos) {
-                if ((long) LONGS.getAcquire(map, base) == before) {
-                    continue;
-                }
-                torn++;
-                continue;
-            }
-            out.put(0, map, base + SLOT_HEADER_BYTES, frameBytes);
-            VarHandle.acquireFence();
-            long after = (long) LONGS.getAcquire(map, base);
-            if (after != before || number != k) {
-                torn++;
-                continue;
-            }
-            lastNumber = k;
-            lastStamp = stamp;
-            frames++;
-            return stamp;
+            // too new, overwritten by a newer frame, or being written: an older slot may hold it
         }
         return -1;
     }
